@@ -8,6 +8,9 @@ from __future__ import annotations
 
 import argparse
 import sys
+from pathlib import Path
+
+import numpy as np
 
 from shoreline import __version__
 from shoreline.cautions import caution_lines
@@ -30,24 +33,183 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument(
         "--debug", action="store_true", help="show a traceback for every error (for bug reports)"
     )
-    parser.add_subparsers(dest="command", metavar="COMMAND")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+    run = sub.add_parser(
+        "run",
+        help="run a study: transects, waves to breaking, transport, rates, hotspots, outputs",
+        description="Run a study file and write its GIS layers, tables, figures and report.",
+    )
+    run.add_argument("study", type=Path, help="the study file (TOML)")
+    run.add_argument(
+        "--out", type=Path, default=None, help="output folder (default: 'out' beside the study)"
+    )
+    run.add_argument(
+        "--no-figures", action="store_true", help="skip figures and report (large batch runs)"
+    )
+    run.add_argument("--quiet", action="store_true", help="print only errors and the caution")
+    tr = sub.add_parser(
+        "transects",
+        help="write only the transects, to check the geometry in a GIS before a run",
+        description="Cast the transects of a study and write them (GeoJSON and GeoPackage).",
+    )
+    tr.add_argument("study", type=Path, help="the study file (TOML)")
+    tr.add_argument(
+        "--out", type=Path, default=None, help="output folder (default: 'out' beside the study)"
+    )
+    rep = sub.add_parser(
+        "report",
+        help="rebuild the figures and report of an existing output folder without recomputing",
+        description="Rebuild figures and report.html from the files of an output folder.",
+    )
+    rep.add_argument("folder", type=Path, help="an output folder written by 'shoreline run'")
     return parser
+
+
+def _default_out(study_path: Path, out: Path | None) -> Path:
+    return out if out is not None else study_path.resolve().parent / "out"
+
+
+def _figures_and_report(folder: Path) -> None:
+    """Write every scenario's figures, then the report, into an output folder."""
+    from shoreline.figures import write_figures
+    from shoreline.report import write_report
+
+    baseline = folder / "baseline"
+    for scenario in sorted(p for p in folder.iterdir() if (p / "summary.json").exists()):
+        write_figures(scenario, baseline_dir=None if scenario == baseline else baseline)
+    write_report(folder)
+
+
+def _cmd_run(args: argparse.Namespace, argv: list[str]) -> int:
+    from shoreline.export import utc_now, write_run
+    from shoreline.run import run_study
+    from shoreline.study import read_study
+
+    started = utc_now()
+    study = read_study(args.study)
+    result = run_study(study)
+    out = _default_out(args.study, args.out)
+    extra = None if args.no_figures else _figures_and_report
+    write_run(result, out, ["shoreline", *argv], started, extra=extra)
+    if not args.quiet:
+        print(summary_text(result, out))
+    else:
+        print("\n".join(caution_lines()))
+    return 0
+
+
+def summary_text(result, out: Path) -> str:
+    """The summary printed at the end of a run."""
+    lines = []
+    n = len(result.transects)
+    lines.append(
+        f"shoreline {__version__}: {n} transects on {len(result.coast.parts)} shore part(s), "
+        f"working CRS {result.transects.working_crs.name}"
+    )
+    for scenario in result.scenarios:
+        counts = {"erosion": 0, "accretion": 0}
+        for h in scenario.hotspots:
+            counts[h.klass] += 1
+        cols = scenario.columns
+        classes = {k: int((cols["class"] == k).sum()) for k in ("erosion", "accretion", "stable")}
+        classes["sheltered"] = int((cols["class"] == "sheltered").sum())
+        lines.append(
+            f"[{scenario.name}] transects by class: "
+            + ", ".join(f"{k} {v}" for k, v in classes.items())
+        )
+        lines.append(
+            f"[{scenario.name}] hotspots: {counts['erosion']} erosion, "
+            f"{counts['accretion']} accretion"
+        )
+        rate = cols["rate_m_per_yr"]
+        if rate.size and np.isfinite(rate).any() and np.nanmin(rate) < 0:
+            i = int(np.nanargmin(rate))
+            lines.append(
+                f"[{scenario.name}] strongest erosion: {rate[i]:.2f} m/yr at transect "
+                f"{cols['transect_id'][i]} (part {cols['part_id'][i]}, chainage "
+                f"{cols['chainage_m'][i] / 1000:.2f} km)"
+            )
+        for h in scenario.hotspots:
+            lines.append(
+                f"    {h.klass:9s} #{h.hotspot_id:<3d} part {h.part_id} "
+                f"{h.start_chainage_m / 1000:6.2f}-{h.end_chainage_m / 1000:6.2f} km  "
+                f"mean {h.mean_rate_m_per_yr:+6.2f} m/yr  peak {h.peak_rate_m_per_yr:+6.2f} m/yr"
+            )
+    for w in result.warnings:
+        lines.append(f"warning: {w}")
+    lines.append("")
+    lines.extend(caution_lines())
+    lines.append("")
+    lines.append(f"written to {out}:")
+    for p in sorted(out.rglob("*")):
+        if p.is_file() and not p.name.startswith("."):
+            lines.append(f"  {p.relative_to(out)}")
+    return "\n".join(lines)
+
+
+def _cmd_transects(args: argparse.Namespace) -> int:
+    from shoreline.export import write_transects_only
+    from shoreline.run import load_transects
+    from shoreline.study import read_study
+
+    study = read_study(args.study)
+    coast, transects = load_transects(study)
+    out = _default_out(args.study, args.out)
+    c = study["coast"]
+    settings = {k: c[k] for k in ("file", "spacing_m", "smoothing_m", "transect_length_m")}
+    paths = write_transects_only(coast, transects, c["transect_length_m"], out, settings)
+    print(f"{len(transects)} transects on {len(coast.parts)} shore part(s)")
+    for w in coast.warnings:
+        print(f"warning: {w}")
+    print("\n".join(caution_lines()))
+    for p in paths:
+        print(f"written: {p}")
+    return 0
+
+
+def _cmd_report(args: argparse.Namespace) -> int:
+    from shoreline.errors import OutputError
+
+    folder = args.folder
+    if not (folder / "run.json").exists():
+        raise OutputError(f"{folder}: not an output folder of 'shoreline run' (no run.json)")
+    _figures_and_report(folder)
+    print("\n".join(caution_lines()))
+    print(f"written: {folder / 'report.html'}")
+    return 0
 
 
 def main(argv: list[str] | None = None) -> int:
     """Run the command line; return the exit code."""
+    argv = list(sys.argv[1:] if argv is None else argv)
     parser = build_parser()
     args = parser.parse_args(argv)
     try:
         if args.command is None:
             parser.print_help()
             return 0
-        return 0
+        if args.command == "run":
+            return _cmd_run(args, argv)
+        if args.command == "transects":
+            return _cmd_transects(args)
+        return _cmd_report(args)
     except ShorelineError as exc:
         if args.debug:
             raise
         print(f"shoreline: error: {exc}", file=sys.stderr)
         return 2
+    except KeyboardInterrupt:
+        print("shoreline: interrupted; no new output was moved into place", file=sys.stderr)
+        return 130
+    except Exception as exc:  # a bug: say so in one line, traceback with --debug
+        if args.debug:
+            raise
+        print(
+            f"shoreline: internal error ({type(exc).__name__}: {exc}); this is a bug: "
+            "re-run with --debug for the traceback and report it",
+            file=sys.stderr,
+        )
+        return 3
 
 
 if __name__ == "__main__":  # pragma: no cover

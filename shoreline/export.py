@@ -1,0 +1,428 @@
+"""Writers: GeoJSON (RFC 7946, WGS 84), one GeoPackage in the working CRS, CSV, the run record.
+
+Outputs appear whole or not at all: :func:`write_run` builds everything in a temporary folder
+beside the output folder and moves each finished item into place only when all of it was
+written; a failed run leaves earlier output untouched.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import math
+import os
+import shutil
+import sys
+import uuid
+from collections.abc import Callable
+from datetime import datetime, timezone
+from pathlib import Path
+from typing import Any
+
+import geopandas as gpd
+import numpy as np
+import pandas as pd
+import shapely
+from shapely.ops import substring
+
+from shoreline import __version__
+from shoreline.cautions import CAUTION
+from shoreline.climate import joint_histogram
+from shoreline.coast import CoastLines, Transects
+from shoreline.errors import OutputError
+from shoreline.run import RunResult, ScenarioResult
+
+#: Columns of the hotspot layer, in order.
+HOTSPOT_COLUMNS = (
+    "hotspot_id",
+    "class",
+    "part_id",
+    "start_chainage_m",
+    "end_chainage_m",
+    "length_m",
+    "mean_rate_m_per_yr",
+    "peak_rate_m_per_yr",
+    "volume_m3_per_yr",
+)
+
+
+def key_settings(result: RunResult) -> dict[str, Any]:
+    """The settings a reader of one layer needs to know how it was made."""
+    st = result.study.settings
+    return {
+        "tool": f"shoreline {__version__}",
+        "study_file": result.study.path.name,
+        "working_crs": crs_label(result.transects.working_crs),
+        "formulas": st["model"]["formulas"],
+        "primary": st["model"]["primary"],
+        "breaker_index": st["model"]["breaker_index"],
+        "cerc_k": st["model"]["cerc_k"],
+        "closure_depth_m": st["model"]["closure_depth_m"],
+        "berm_height_m": st["model"]["berm_height_m"],
+        "d50_mm": st["sediment"]["d50_mm"],
+        "spacing_m": st["coast"]["spacing_m"],
+        "smoothing_m": st["coast"]["smoothing_m"],
+        "stable_band_m_per_yr": st["classify"]["stable_band_m_per_yr"],
+        "units": "SI; q positive toward increasing chainage; rate positive = accretion",
+    }
+
+
+def crs_label(crs: Any) -> str:
+    """``EPSG:nnnn`` where the CRS has a code, else its name."""
+    code = crs.to_epsg()
+    return f"EPSG:{code}" if code else crs.name
+
+
+def sha256_of(path: Path) -> str:
+    """SHA-256 of a file's bytes, as hex."""
+    digest = hashlib.sha256()
+    with open(path, "rb") as handle:
+        for block in iter(lambda: handle.read(1 << 20), b""):
+            digest.update(block)
+    return digest.hexdigest()
+
+
+def input_files(result: RunResult) -> list[Path]:
+    """Every input file of a run (a Shapefile brings its sidecar files)."""
+    files = [result.study.path, result.study.coast_file]
+    if result.study.coast_file.suffix.lower() == ".shp":
+        stem = result.study.coast_file.with_suffix("")
+        files += sorted(p for p in stem.parent.glob(stem.name + ".*") if p.suffix.lower() != ".shp")
+    if result.study.wave_file is not None:
+        files.append(result.study.wave_file)
+    return [f.resolve() for f in files if f.exists()]
+
+
+def _jsonable(value: Any) -> Any:
+    """Plain JSON values: numpy scalars to Python, NaN and inf to None."""
+    if isinstance(value, dict):
+        return {str(k): _jsonable(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_jsonable(v) for v in value]
+    if isinstance(value, (np.bool_, bool)):
+        return bool(value)
+    if isinstance(value, (np.integer,)):
+        return int(value)
+    if isinstance(value, (float, np.floating)):
+        v = float(value)
+        return v if math.isfinite(v) else None
+    if isinstance(value, Path):
+        return str(value)
+    return value
+
+
+def write_json(path: Path, data: dict[str, Any]) -> None:
+    """Write a JSON file (UTF-8, indented, NaN as null)."""
+    path.write_text(json.dumps(_jsonable(data), indent=2, ensure_ascii=False) + "\n", "utf-8")
+
+
+def write_geojson(path: Path, frame: gpd.GeoDataFrame, members: dict[str, Any]) -> None:
+    """Write an RFC 7946 GeoJSON FeatureCollection in WGS 84 with extra top-level members.
+
+    Coordinates are lon/lat (WGS 84) rounded to 1e-7 degree (about 1 cm); there is no ``crs``
+    member (RFC 7946 section 4); NaN properties are written as null.
+    """
+    lonlat = frame.to_crs(4326)
+    data = json.loads(lonlat.to_json(na="null", drop_id=True, to_wgs84=True))
+    geoms = shapely.set_precision(lonlat.geometry.to_numpy(), 1e-7)
+    for feature, geom in zip(data["features"], geoms, strict=True):
+        feature["geometry"] = json.loads(shapely.to_geojson(geom))
+    data.pop("crs", None)
+    collection = {"type": "FeatureCollection", **_jsonable(members), "features": data["features"]}
+    path.write_text(json.dumps(collection, ensure_ascii=False) + "\n", "utf-8")
+
+
+def chainage_to_grid(transects: Transects, coast: CoastLines, part: int) -> Callable:
+    """A function mapping ground chainage on a part to grid distance along its geometry."""
+    line = coast.parts[part]
+    sel = transects.part_id == part
+    pts = shapely.points(transects.x_m[sel], transects.y_m[sel])
+    grid = shapely.line_locate_point(line, pts)
+    ground = transects.chainage_m[sel]
+    if ground.size < 2:
+        return lambda s: np.asarray(s, dtype=float)
+    ratio = (grid[-1] - grid[0]) / (ground[-1] - ground[0]) if ground[-1] > ground[0] else 1.0
+
+    def to_grid(s: np.ndarray) -> np.ndarray:
+        s = np.asarray(s, dtype=float)
+        inside = np.interp(s, ground, grid)
+        outside = grid[0] + (s - ground[0]) * ratio
+        mask = (s < ground[0]) | (s > ground[-1])
+        return np.clip(np.where(mask, outside, inside), 0.0, line.length)
+
+    return to_grid
+
+
+def hotspot_geometry(coast: CoastLines, transects: Transects, h: Any) -> shapely.LineString:
+    """The stretch of shoreline of one hotspot, in the working CRS."""
+    line = coast.parts[h.part_id]
+    to_grid = chainage_to_grid(transects, coast, h.part_id)
+    a, b = (float(v) for v in to_grid([h.start_chainage_m, h.end_chainage_m]))
+    if coast.closed[h.part_id]:
+        if h.start_chainage_m == 0.0 and h.members.size == int(
+            np.sum(transects.part_id == h.part_id)
+        ):
+            return line  # the whole ring
+        if h.start_chainage_m > h.end_chainage_m:  # the run wraps past chainage 0
+            return shapely.line_merge(
+                shapely.union(substring(line, a, line.length), substring(line, 0.0, b))
+            )
+    return substring(line, a, b)
+
+
+def transect_frame(
+    result: RunResult, scenario: ScenarioResult, length_m: float
+) -> gpd.GeoDataFrame:
+    """The transect layer of one scenario, in the working CRS."""
+    t = result.transects
+    columns = {k: np.asarray(v) for k, v in scenario.columns.items()}
+    return gpd.GeoDataFrame(columns, geometry=t.lines(length_m), crs=t.working_crs)
+
+
+def hotspot_frame(result: RunResult, scenario: ScenarioResult) -> gpd.GeoDataFrame:
+    """The hotspot layer of one scenario, in the working CRS (an empty layer keeps its schema)."""
+    rows = {c: [] for c in HOTSPOT_COLUMNS}
+    geoms = []
+    for h in scenario.hotspots:
+        rows["hotspot_id"].append(h.hotspot_id)
+        rows["class"].append(h.klass)
+        for c in HOTSPOT_COLUMNS[2:]:
+            rows[c].append(getattr(h, c))
+        geoms.append(hotspot_geometry(result.coast, result.transects, h))
+    frame = pd.DataFrame(rows).astype(
+        {"hotspot_id": "int64", "part_id": "int64", "class": "str"}
+        | {c: "float64" for c in HOTSPOT_COLUMNS[3:]}
+    )
+    return gpd.GeoDataFrame(frame, geometry=gpd.GeoSeries(geoms, crs=result.transects.working_crs))
+
+
+def shoreline_frame(result: RunResult) -> gpd.GeoDataFrame:
+    """The shoreline parts as read, in the working CRS."""
+    coast = result.coast
+    return gpd.GeoDataFrame(
+        {
+            "part_id": np.arange(len(coast.parts)),
+            "closed": np.asarray(coast.closed, dtype=bool),
+            "length_m": shapely.length(np.asarray(coast.parts, dtype=object)),
+        },
+        geometry=list(coast.parts),
+        crs=result.transects.working_crs,
+    )
+
+
+def write_scenario(folder: Path, result: RunResult, scenario: ScenarioResult) -> list[Path]:
+    """Write one scenario's layers, CSV, wave climate and summary into ``folder``."""
+    folder.mkdir(parents=True, exist_ok=True)
+    st = result.study.settings
+    length = st["coast"]["transect_length_m"]
+    transects = transect_frame(result, scenario, length)
+    hotspots = hotspot_frame(result, scenario)
+    shore = shoreline_frame(result)
+    settings = key_settings(result) | {"scenario": scenario.name}
+    members = {"name": "", "caution": CAUTION, "settings": settings}
+    written = []
+    for name, frame in (("transects", transects), ("hotspots", hotspots)):
+        path = folder / f"{name}.geojson"
+        write_geojson(path, frame, members | {"name": name})
+        written.append(path)
+    gpkg = folder / "results.gpkg"
+    for name, frame in (("shoreline", shore), ("transects", transects), ("hotspots", hotspots)):
+        frame.to_file(gpkg, layer=name, driver="GPKG", engine="pyogrio")
+    about = pd.DataFrame(
+        {"key": ["caution", "settings"], "value": [CAUTION, json.dumps(_jsonable(settings))]}
+    )
+    import pyogrio
+
+    pyogrio.write_dataframe(about, gpkg, layer="about", driver="GPKG")
+    written.append(gpkg)
+    csv_path = folder / "transects.csv"
+    origin = gpd.GeoSeries(
+        shapely.points(result.transects.x_m, result.transects.y_m),
+        crs=result.transects.working_crs,
+    ).to_crs(4326)
+    table = pd.DataFrame(scenario.columns)
+    table.insert(3, "lon_deg", np.round(origin.x.to_numpy(), 7))
+    table.insert(4, "lat_deg", np.round(origin.y.to_numpy(), 7))
+    with open(csv_path, "w", encoding="utf-8", newline="") as handle:
+        handle.write(f"# {CAUTION}\n")
+        handle.write(f"# {json.dumps(_jsonable(settings))}\n")
+        table.to_csv(handle, index=False, float_format="%.6g")
+    written.append(csv_path)
+    climate_path = folder / "wave_climate.csv"
+    pd.DataFrame(
+        joint_histogram(scenario.climate),
+        columns=["dir_from_deg_lo", "dir_from_deg_hi", "hs_m_lo", "hs_m_hi", "hours"],
+    ).to_csv(climate_path, index=False, float_format="%.6g")
+    written.append(climate_path)
+    write_json(folder / "summary.json", scenario_summary(result, scenario))
+    written.append(folder / "summary.json")
+    return written
+
+
+def mean_normal_az_deg(normal_az_deg: np.ndarray) -> float:
+    """Vector mean of azimuths [deg, 0-360).
+
+    Examples
+    --------
+    >>> round(mean_normal_az_deg(np.array([350.0, 10.0])), 6) % 360
+    0.0
+    """
+    rad = np.radians(normal_az_deg)
+    return float(np.degrees(np.arctan2(np.sin(rad).mean(), np.cos(rad).mean())) % 360.0)
+
+
+def scenario_summary(result: RunResult, scenario: ScenarioResult) -> dict[str, Any]:
+    """The summary.json of one scenario (see docs/outputs.md)."""
+    st = result.study.settings
+    c = scenario.climate
+    counts = {"erosion": 0, "accretion": 0}
+    for h in scenario.hotspots:
+        counts[h.klass] += 1
+    waves_info: dict[str, Any] = {"kind": c.kind, "hours": c.total_hours, "source": c.source}
+    if c.kind == "steady":
+        waves_info |= {"hs_m": c.hs_m[0], "tp_s": c.tp_s[0], "dir_deg": c.dir_deg[0]}
+    else:
+        waves_info |= {
+            "records": len(c),
+            "records_skipped": c.skipped,
+            "hs_mean_m": float(np.average(c.hs_m, weights=c.duration_s)),
+            "hs_max_m": float(c.hs_m.max()),
+        }
+    waves_info["depth_m"] = "deep" if math.isinf(c.depth_m) else c.depth_m
+    rate = scenario.columns["rate_m_per_yr"]
+    worst = int(np.nanargmin(rate)) if np.isfinite(rate).any() else 0
+    crs = result.transects.working_crs
+    return {
+        "scenario": scenario.name,
+        "primary": st["model"]["primary"],
+        "formulas": st["model"]["formulas"],
+        "stable_band_m_per_yr": st["classify"]["stable_band_m_per_yr"],
+        "min_hotspot_length_m": st["classify"]["min_hotspot_length_m"],
+        "closure_depth_m": scenario.closure_depth_m,
+        "berm_height_m": st["model"]["berm_height_m"],
+        "working_crs": crs_label(crs),
+        "working_crs_name": crs.name,
+        "mean_normal_az_deg": mean_normal_az_deg(result.transects.normal_az_deg),
+        "n_transects": len(result.transects),
+        "hotspots": counts,
+        "strongest_erosion": {
+            "rate_m_per_yr": float(rate[worst]),
+            "transect_id": int(scenario.columns["transect_id"][worst]),
+            "part_id": int(scenario.columns["part_id"][worst]),
+            "chainage_m": float(scenario.columns["chainage_m"][worst]),
+        },
+        "waves": waves_info,
+        "info": scenario.info,
+        "caution": CAUTION,
+    }
+
+
+def run_record(result: RunResult, command: list[str], started_utc: str) -> dict[str, Any]:
+    """The run.json record: version, study as read and as used, input hashes, counts, timings."""
+    climate = result.scenarios[0].climate
+    return {
+        "tool": "shoreline",
+        "version": __version__,
+        "command": command,
+        "python": sys.version.split()[0],
+        "started_utc": started_utc,
+        "study_file": str(result.study.path),
+        "study": result.study.raw,
+        "settings": result.study.settings,
+        "inputs": {str(p): sha256_of(p) for p in input_files(result)},
+        "working_crs": crs_label(result.transects.working_crs),
+        "working_crs_name": result.transects.working_crs.name,
+        "counts": {
+            "transects": len(result.transects),
+            "shore_parts": len(result.coast.parts),
+            "records": len(climate),
+            "records_skipped": climate.skipped,
+        },
+        "timings_s": {k: round(v, 4) for k, v in result.timings_s.items()},
+        "warnings": result.warnings,
+        "scenarios": [s.name for s in result.scenarios],
+        "caution": CAUTION,
+    }
+
+
+def utc_now() -> str:
+    """The current time, UTC, ISO 8601 to the second."""
+    return datetime.now(timezone.utc).replace(microsecond=0).isoformat()
+
+
+def publish(build: Callable[[Path], None], out_dir: Path) -> None:
+    """Build outputs in a temporary folder beside ``out_dir``, then move them into place.
+
+    ``build(tmp)`` writes everything into ``tmp``. Only when it returns are the items moved into
+    ``out_dir`` (each replacing an earlier item of the same name); if it raises, ``out_dir`` is
+    left as it was and the temporary folder is removed.
+    """
+    out_dir = Path(out_dir)
+    try:
+        out_dir.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise OutputError(f"{out_dir}: cannot create the output folder ({exc.strerror})") from None
+    if not os.access(out_dir, os.W_OK):
+        raise OutputError(f"{out_dir}: the output folder is not writable")
+    tmp = out_dir / f".partial-{uuid.uuid4().hex[:8]}"
+    tmp.mkdir()
+    try:
+        build(tmp)
+        for item in sorted(tmp.iterdir()):
+            target = out_dir / item.name
+            old = out_dir / f".old-{uuid.uuid4().hex[:8]}-{item.name}"
+            if target.exists():
+                target.rename(old)
+            item.rename(target)
+            if old.exists():
+                shutil.rmtree(old) if old.is_dir() else old.unlink()
+    finally:
+        shutil.rmtree(tmp, ignore_errors=True)
+
+
+def write_run(
+    result: RunResult,
+    out_dir: Path,
+    command: list[str],
+    started_utc: str,
+    extra: Callable[[Path], None] | None = None,
+) -> list[Path]:
+    """Write every scenario folder and run.json into ``out_dir``, atomically (see publish).
+
+    ``extra(tmp)`` may add more (figures, the report) before the outputs are moved into place.
+    """
+    names: list[Path] = []
+
+    def build(tmp: Path) -> None:
+        for scenario in result.scenarios:
+            written = write_scenario(tmp / scenario.name, result, scenario)
+            names.extend(out_dir / p.relative_to(tmp) for p in written)
+        write_json(tmp / "run.json", run_record(result, command, started_utc))
+        names.append(out_dir / "run.json")
+        if extra is not None:
+            extra(tmp)
+
+    publish(build, out_dir)
+    return names
+
+
+def write_transects_only(
+    coast: CoastLines, transects: Transects, length_m: float, out_dir: Path, settings: dict
+) -> list[Path]:
+    """Write just the shoreline and transects (GeoJSON and GeoPackage) for a geometry check."""
+    cols = {
+        "transect_id": transects.transect_id,
+        "part_id": transects.part_id,
+        "chainage_m": transects.chainage_m,
+        "normal_az_deg": transects.normal_az_deg,
+    }
+    frame = gpd.GeoDataFrame(cols, geometry=transects.lines(length_m), crs=transects.working_crs)
+    members = {"name": "transects", "caution": CAUTION, "settings": settings}
+    paths = [out_dir / "transects.geojson", out_dir / "transects.gpkg"]
+
+    def build(tmp: Path) -> None:
+        write_geojson(tmp / "transects.geojson", frame, members)
+        frame.to_file(tmp / "transects.gpkg", layer="transects", driver="GPKG")
+
+    publish(build, out_dir)
+    return paths

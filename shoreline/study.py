@@ -1,0 +1,313 @@
+"""The study file: one TOML file read and validated completely into typed settings.
+
+Every key is checked before any work starts: an unknown key is an error naming the key and its
+section (with the closest valid key, to catch typos), and so is a value of the wrong type or out
+of range. Paths in the file are relative to the file. The keys, their defaults and their ranges
+are listed once, in :data:`SCHEMA`; ``docs/study-file.md`` documents them for users.
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+import sys
+from collections.abc import Callable
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from shoreline.errors import StudyError
+
+if sys.version_info >= (3, 11):
+    import tomllib
+else:  # pragma: no cover - exercised on Python 3.10 only
+    import tomli as tomllib
+
+#: Transport formulas the run can compute (names as in :mod:`shoreline.transport`).
+KNOWN_FORMULAS = ("cerc", "kamphuis")
+
+
+@dataclass(frozen=True)
+class Key:
+    """One key of the study file: its type, default and the check of its value."""
+
+    kind: str  # "float", "int", "str", "bool", "str-list", "float-or-str"
+    default: Any = None
+    required: bool = False
+    check: Callable[[Any], str | None] | None = None
+    doc: str = ""
+
+
+def _positive(v: Any) -> str | None:
+    return None if isinstance(v, (int, float)) and v > 0 else "a number > 0"
+
+
+def _non_negative(v: Any) -> str | None:
+    return None if v >= 0 else "a number >= 0"
+
+
+def _open_unit(v: Any) -> str | None:
+    return None if 0 < v < 1 else "a number between 0 and 1 (exclusive)"
+
+
+def _breaker_index(v: Any) -> str | None:
+    return None if 0 < v <= 1.5 else "a number in (0, 1.5]"
+
+
+def _direction(v: Any) -> str | None:
+    return None if -360 <= v <= 360 else "a direction in degrees between -360 and 360"
+
+
+def _one_of(*choices: str) -> Callable[[Any], str | None]:
+    def check(v: Any) -> str | None:
+        return None if v in choices else "one of " + ", ".join(repr(c) for c in choices)
+
+    return check
+
+
+def _depth(v: Any) -> str | None:
+    if isinstance(v, str):
+        return None if v == "deep" else '"deep" or a depth in metres > 0'
+    return None if v > 0 else '"deep" or a depth in metres > 0'
+
+
+def _closure(v: Any) -> str | None:
+    if isinstance(v, str):
+        return None if v == "hallermeier" else '"hallermeier" or a depth in metres > 0'
+    return None if v > 0 else '"hallermeier" or a depth in metres > 0'
+
+
+def _formulas(v: Any) -> str | None:
+    bad = [f for f in v if f not in KNOWN_FORMULAS]
+    if bad or not v:
+        return "a non-empty list from " + ", ".join(repr(f) for f in KNOWN_FORMULAS)
+    return None
+
+
+def _cerc_k(v: Any) -> str | None:
+    if isinstance(v, str):
+        return None if v == "del_valle" else '"del_valle" or a number > 0'
+    return None if v > 0 else '"del_valle" or a number > 0'
+
+
+#: Every section and key of the study file, with type, default and range.
+SCHEMA: dict[str, dict[str, Key]] = {
+    "coast": {
+        "file": Key("str", required=True, doc="coast file (any vector format pyogrio reads)"),
+        "layer": Key("str", doc="layer name, for files with several layers"),
+        "sea": Key(
+            "str",
+            check=_one_of("left", "right"),
+            doc="side of the digitised direction the sea is on (lines only)",
+        ),
+        "spacing_m": Key("float", 100.0, check=_positive, doc="transect spacing on the ground"),
+        "smoothing_m": Key(
+            "float", 500.0, check=_positive, doc="window over which the orientation is averaged"
+        ),
+        "transect_length_m": Key(
+            "float", 500.0, check=_positive, doc="drawn seaward length of each transect"
+        ),
+        "crs": Key("str", doc="CRS of a coast file that carries none, e.g. 'EPSG:32631'"),
+    },
+    "sediment": {
+        "d50_mm": Key("float", 0.3, check=_positive, doc="median grain size"),
+        "porosity": Key("float", 0.4, check=_open_unit, doc="porosity of the deposit"),
+        "density_kg_m3": Key("float", 2650.0, check=_positive, doc="grain density"),
+        "slope": Key(
+            "float",
+            check=_positive,
+            doc="beach slope breaker line to shoreline; else from the equilibrium profile",
+        ),
+    },
+    "waves": {
+        "hs_m": Key("float", check=_positive, doc="significant wave height (steady condition)"),
+        "tp_s": Key("float", check=_positive, doc="peak period (steady condition)"),
+        "dir_deg": Key("float", check=_direction, doc="direction waves come from, true north"),
+        "depth_m": Key("float-or-str", "deep", check=_depth, doc='depth of the waves: "deep"'),
+        "file": Key("str", doc="wave record CSV: columns time, hs_m, tp_s, dir_deg"),
+        "max_gap_h": Key(
+            "float", 6.0, check=_positive, doc="longest step a record may stand for, hours"
+        ),
+    },
+    "model": {
+        "formulas": Key("str-list", ["cerc", "kamphuis"], check=_formulas, doc="formulas to run"),
+        "primary": Key(
+            "str", "cerc", check=_one_of(*KNOWN_FORMULAS), doc="formula driving rates and classes"
+        ),
+        "breaker_index": Key("float", 0.78, check=_breaker_index, doc="breaker index Hb/db"),
+        "breaking": Key(
+            "str", "exact", check=_one_of("exact", "explicit"), doc="breaking solution method"
+        ),
+        "cerc_k": Key("float-or-str", 0.39, check=_cerc_k, doc="CERC coefficient (Hs form)"),
+        "kamphuis_coefficient": Key("float", 2.27, check=_positive, doc="Kamphuis coefficient"),
+        "water_density_kg_m3": Key("float", 1025.0, check=_positive, doc="water density"),
+        "closure_depth_m": Key("float-or-str", 8.0, check=_closure, doc="closure depth"),
+        "berm_height_m": Key("float", 2.0, check=_non_negative, doc="berm height"),
+    },
+    "classify": {
+        "stable_band_m_per_yr": Key(
+            "float", 0.5, check=_non_negative, doc="|rate| below this is stable"
+        ),
+        "min_hotspot_length_m": Key(
+            "float", 300.0, check=_non_negative, doc="shortest run that is a hotspot"
+        ),
+    },
+}
+
+
+@dataclass(frozen=True)
+class Study:
+    """A validated study: every setting with defaults filled, paths made absolute.
+
+    ``settings`` holds the values by section and key, exactly as used; ``raw`` is the TOML as
+    read.
+    """
+
+    path: Path
+    raw: dict[str, Any]
+    settings: dict[str, dict[str, Any]] = field(default_factory=dict)
+
+    def __getitem__(self, section: str) -> dict[str, Any]:
+        """Return the settings of one section."""
+        return self.settings[section]
+
+    @property
+    def folder(self) -> Path:
+        """The folder the study file is in (paths in it are relative to it)."""
+        return self.path.parent
+
+    @property
+    def coast_file(self) -> Path:
+        """The coast file, as an absolute path."""
+        return self.folder / self.settings["coast"]["file"]
+
+    @property
+    def wave_file(self) -> Path | None:
+        """The wave record file, as an absolute path, or None for a steady condition."""
+        name = self.settings["waves"]["file"]
+        return None if name is None else self.folder / name
+
+
+def _where(path: Path, section: str, key: str) -> str:
+    return f"{path.name}: [{section}] {key}"
+
+
+def _coerce(path: Path, section: str, key: str, spec: Key, value: Any) -> Any:
+    """Check the type of one value; return it converted (int to float where a float is due)."""
+    where = _where(path, section, key)
+    kind = spec.kind
+    is_number = isinstance(value, (int, float)) and not isinstance(value, bool)
+    if kind == "float" or (kind == "float-or-str" and not isinstance(value, str)):
+        if not is_number:
+            raise StudyError(f"{where} = {value!r}: expected a number")
+        value = float(value)
+        if not math.isfinite(value):
+            raise StudyError(f"{where} = {value!r}: expected a finite number")
+        return value
+    if kind in ("str", "float-or-str"):
+        if not isinstance(value, str):
+            raise StudyError(f"{where} = {value!r}: expected a text value in quotes")
+        return value
+    if kind == "str-list":
+        if not isinstance(value, list) or not all(isinstance(v, str) for v in value):
+            raise StudyError(f'{where} = {value!r}: expected a list of names, e.g. ["cerc"]')
+        return list(value)
+    raise AssertionError(f"unknown key kind {kind}")  # pragma: no cover
+
+
+def _unknown(path: Path, name: str, valid: list[str], section: str | None) -> StudyError:
+    close = difflib.get_close_matches(name, valid, n=1)
+    hint = f" (did you mean {close[0]!r}?)" if close else ""
+    where = f"[{section}] " if section else ""
+    what = "key" if section else "section"
+    return StudyError(
+        f"{path.name}: unknown {what} {where}{name!r}{hint}; valid: " + ", ".join(valid)
+    )
+
+
+def validate(raw: dict[str, Any], path: Path) -> Study:
+    """Validate a parsed study mapping; return the :class:`Study` with defaults filled.
+
+    Raises
+    ------
+    StudyError
+        For an unknown section or key, a wrong type, a value out of range, a missing required
+        key, or an inconsistent combination (a steady condition and a record file together).
+    """
+    for name, table in raw.items():
+        if name not in SCHEMA:
+            raise _unknown(path, name, list(SCHEMA), None)
+        if not isinstance(table, dict):
+            raise StudyError(f"{path.name}: [{name}] must be a table of keys, not a value")
+    settings: dict[str, dict[str, Any]] = {}
+    for section, keys in SCHEMA.items():
+        table = raw.get(section, {})
+        for key in table:
+            if key not in keys:
+                raise _unknown(path, key, list(keys), section)
+        values: dict[str, Any] = {}
+        for key, spec in keys.items():
+            if key not in table:
+                if spec.required:
+                    raise StudyError(f"{_where(path, section, key)}: required key is missing")
+                values[key] = spec.default
+                continue
+            value = _coerce(path, section, key, spec, table[key])
+            if spec.check is not None:
+                expected = spec.check(value)
+                if expected:
+                    where = _where(path, section, key)
+                    raise StudyError(f"{where} = {value!r}: expected {expected}")
+            values[key] = value
+        settings[section] = values
+
+    waves = settings["waves"]
+    steady = [k for k in ("hs_m", "tp_s", "dir_deg") if waves[k] is not None]
+    if waves["file"] is not None and steady:
+        raise StudyError(
+            f"{path.name}: [waves] give either a record file or hs_m/tp_s/dir_deg, not both "
+            f"(found file and {', '.join(steady)})"
+        )
+    if waves["file"] is None and len(steady) != 3:
+        missing = [k for k in ("hs_m", "tp_s", "dir_deg") if waves[k] is None]
+        raise StudyError(
+            f"{path.name}: [waves] missing {', '.join(missing)}: give hs_m, tp_s and dir_deg "
+            "for a steady condition, or file for a wave record"
+        )
+    model = settings["model"]
+    if model["primary"] not in model["formulas"]:
+        raise StudyError(
+            f"{path.name}: [model] primary = {model['primary']!r} must be one of formulas = "
+            f"{model['formulas']!r}"
+        )
+    if len(set(model["formulas"])) != len(model["formulas"]):
+        raise StudyError(f"{path.name}: [model] formulas = {model['formulas']!r} repeats a name")
+    if model["closure_depth_m"] == "hallermeier" and waves["file"] is None:
+        raise StudyError(
+            f'{path.name}: [model] closure_depth_m = "hallermeier" needs a wave record '
+            "([waves] file): the height exceeded 12 hours a year comes from the record"
+        )
+    return Study(path=path.resolve(), raw=raw, settings=settings)
+
+
+def read_study(path: str | Path) -> Study:
+    """Read and validate a study TOML file.
+
+    Raises
+    ------
+    StudyError
+        If the file is missing, is not valid TOML (the message gives the parser's line and
+        column), or fails :func:`validate`.
+    """
+    path = Path(path)
+    try:
+        text = path.read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise StudyError(f"{path}: study file not found") from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise StudyError(f"{path}: cannot read the study file ({exc})") from None
+    try:
+        raw = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise StudyError(f"{path}: not valid TOML: {exc}") from None
+    return validate(raw, path)

@@ -24,18 +24,23 @@ SEED = 20311
 
 
 def coast_xy() -> tuple[np.ndarray, np.ndarray]:
-    """The invented shoreline in local metres (x east, y north); the sea is to the south.
+    """The invented shoreline in local metres (x east, y north); the sea is to the south-west.
 
-    From west to east: a gently curved western beach, a headland (Quillon Head) reaching about
-    1.1 km seaward, a bay (Brannock Bay) about 1.3 km deep, and a long straight beach
-    (Seffery Strand) to the east. Digitised west to east, so the sea is on the right.
+    The coast trends toward 120 degrees (east-south-east), so its seaward normal points to
+    about 210 degrees, a few degrees east of the dominant swell. From north-west to south-east:
+    a western beach, a low sandy headland (Quillon Head, a cuspate foreland about 100 m
+    seaward of the trend), a bay (Brannock Bay, about 180 m deep) and a long straight beach
+    (Seffery Strand). Digitised north-west to south-east, so the sea is on the right.
     """
-    x = np.arange(0.0, 14000.0 + 1.0, 20.0)
-    y = 0.02 * x
-    y -= 1100.0 * np.exp(-(((x - 3500.0) / 550.0) ** 2))  # Quillon Head (seaward = south)
-    y += 1300.0 * np.exp(-(((x - 6600.0) / 1300.0) ** 2))  # Brannock Bay (landward)
-    y += 40.0 * np.sin(x / 900.0)  # gentle irregularity
-    return x - 7000.0, y
+    s = np.arange(0.0, 17000.0 + 1.0, 20.0)  # along the trend
+    n = 100.0 * np.exp(-(((s - 4000.0) / 1800.0) ** 2))  # Quillon Head (seaward)
+    n -= 180.0 * np.exp(-(((s - 8000.0) / 2200.0) ** 2))  # Brannock Bay (landward)
+    n += 5.0 * np.sin(s / 900.0)  # gentle irregularity
+    trend = np.radians(120.0)
+    seaward = np.radians(210.0)
+    x = s * np.sin(trend) + n * np.sin(seaward)
+    y = s * np.cos(trend) + n * np.cos(seaward)
+    return x - x.mean(), y - y.mean()
 
 
 def to_lonlat(x: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -80,27 +85,27 @@ def wave_record(hours: int = 8760, seed: int = SEED) -> dict[str, np.ndarray]:
     noise = rng.normal(0.0, 0.08, hours)
     for i in range(1, hours):
         anomaly[i] = 0.97 * anomaly[i - 1] + noise[i]
-    hs = 1.2 * season * np.exp(anomaly * 0.9)
+    hs = 0.75 * season * np.exp(anomaly * 0.9)
     tp = 9.5 + 2.0 * anomaly + rng.normal(0.0, 0.6, hours)
     turn = np.zeros(hours)
     noise = rng.normal(0.0, 2.0, hours)
     for i in range(1, hours):
         turn[i] = 0.98 * turn[i - 1] + noise[i]
-    direction = 218.0 + turn + rng.normal(0.0, 4.0, hours)
+    direction = 216.0 + turn + rng.normal(0.0, 4.0, hours)
     # wind sea from the south-east in spells of a few days
     spell = np.repeat(rng.random(hours // 72 + 1) < 0.22, 72)[:hours]
-    hs = np.where(spell, 0.5 + 0.5 * rng.random(hours), hs)
+    hs = np.where(spell, 0.4 + 0.5 * rng.random(hours), hs)
     tp = np.where(spell, 4.5 + 1.5 * rng.random(hours), tp)
     direction = np.where(spell, 140.0 + 15.0 * rng.normal(size=hours), direction)
     # storms: a rise and fall over about two days
     for start in rng.choice(hours - 60, size=10, replace=False):
-        peak = rng.uniform(3.0, 5.5)
+        peak = rng.uniform(2.5, 4.5)
         span = np.arange(48)
         shape = np.sin(np.pi * span / 47.0) ** 2
         sl = slice(start, start + 48)
         hs[sl] = np.maximum(hs[sl], 0.8 + (peak - 0.8) * shape)
         tp[sl] = np.maximum(tp[sl], 9.0 + 4.5 * shape)
-        direction[sl] = rng.uniform(215.0, 245.0)
+        direction[sl] = rng.uniform(205.0, 240.0)
     return {
         "hs_m": np.clip(hs, 0.2, None),
         "tp_s": np.clip(tp, 3.0, 18.0),

@@ -99,33 +99,36 @@ def _cmd_run(args: argparse.Namespace, argv: list[str]) -> int:
 
 
 def summary_text(result, out: Path) -> str:
-    """The summary printed at the end of a run."""
-    lines = []
-    n = len(result.transects)
-    lines.append(
-        f"shoreline {__version__}: {n} transects on {len(result.coast.parts)} shore part(s), "
-        f"working CRS {result.transects.working_crs.name}"
-    )
+    """The summary printed at the end of a run: per scenario, then side by side."""
+    lines = [
+        f"shoreline {__version__}: {len(result.transects)} transects on "
+        f"{len(result.coast.parts)} shore part(s), working CRS {result.transects.working_crs.name}"
+    ]
+    rows = []
     for scenario in result.scenarios:
-        counts = {"erosion": 0, "accretion": 0}
-        for h in scenario.hotspots:
-            counts[h.klass] += 1
         cols = scenario.columns
-        classes = {k: int((cols["class"] == k).sum()) for k in ("erosion", "accretion", "stable")}
-        classes["sheltered"] = int((cols["class"] == "sheltered").sum())
+        event = "shoreline_shift_m" in cols
+        metric = cols["shoreline_shift_m"] if event else cols["rate_m_per_yr"]
+        unit = "m" if event else "m/yr"
+        classes = {
+            k: int((cols["class"] == k).sum())
+            for k in ("erosion", "accretion", "stable", "sheltered")
+        }
         lines.append(
             f"[{scenario.name}] transects by class: "
             + ", ".join(f"{k} {v}" for k, v in classes.items())
+            + (
+                f" (storm of {scenario.info['event_duration_h']:g} h: shoreline shift)"
+                if event
+                else ""
+            )
         )
-        lines.append(
-            f"[{scenario.name}] hotspots: {counts['erosion']} erosion, "
-            f"{counts['accretion']} accretion"
-        )
-        rate = cols["rate_m_per_yr"]
-        if rate.size and np.isfinite(rate).any() and np.nanmin(rate) < 0:
-            i = int(np.nanargmin(rate))
+        worst = ""
+        if metric.size and np.isfinite(metric).any() and np.nanmin(metric) < 0:
+            i = int(np.nanargmin(metric))
+            worst = f"{metric[i]:+.2f} {unit} at {cols['chainage_m'][i] / 1000:.2f} km"
             lines.append(
-                f"[{scenario.name}] strongest erosion: {rate[i]:.2f} m/yr at transect "
+                f"[{scenario.name}] strongest erosion: {metric[i]:.2f} {unit} at transect "
                 f"{cols['transect_id'][i]} (part {cols['part_id'][i]}, chainage "
                 f"{cols['chainage_m'][i] / 1000:.2f} km)"
             )
@@ -133,8 +136,29 @@ def summary_text(result, out: Path) -> str:
             lines.append(
                 f"    {h.klass:9s} #{h.hotspot_id:<3d} part {h.part_id} "
                 f"{h.start_chainage_m / 1000:6.2f}-{h.end_chainage_m / 1000:6.2f} km  "
-                f"mean {h.mean_rate_m_per_yr:+6.2f} m/yr  peak {h.peak_rate_m_per_yr:+6.2f} m/yr"
+                f"mean {h.mean_rate_m_per_yr:+7.2f} {unit}  "
+                f"peak {h.peak_rate_m_per_yr:+7.2f} {unit}"
             )
+        n_e = sum(h.klass == "erosion" for h in scenario.hotspots)
+        n_a = sum(h.klass == "accretion" for h in scenario.hotspots)
+        vs = scenario.info.get("versus_baseline", {})
+        change = "-"
+        if vs and not vs.get("event"):
+            change = (
+                f"{len(vs['created'])} new, {len(vs['removed_baseline'])} gone, "
+                f"{len(vs['worsened'])} worse"
+            )
+        elif vs:
+            change = "storm event (shift, not rate)"
+        waves_text = _waves_text(scenario)
+        rows.append((scenario.name, waves_text, f"{n_e} E / {n_a} A", worst or "-", change))
+    if len(rows) > 1:
+        lines.append("")
+        lines.append("scenarios side by side:")
+        header = ("scenario", "offshore waves", "hotspots", "strongest erosion", "vs baseline")
+        widths = [max(len(r[i]) for r in [header, *rows]) for i in range(5)]
+        for r in [header, *rows]:
+            lines.append("  " + "  ".join(c.ljust(w) for c, w in zip(r, widths, strict=True)))
     for w in result.warnings:
         lines.append(f"warning: {w}")
     lines.append("")
@@ -142,9 +166,19 @@ def summary_text(result, out: Path) -> str:
     lines.append("")
     lines.append(f"written to {out}:")
     for p in sorted(out.rglob("*")):
-        if p.is_file() and not p.name.startswith("."):
+        if p.is_file() and not any(part.startswith(".") for part in p.relative_to(out).parts):
             lines.append(f"  {p.relative_to(out)}")
     return "\n".join(lines)
+
+
+def _waves_text(scenario) -> str:
+    c = scenario.climate
+    if c.kind == "steady":
+        text = f"Hs {c.hs_m[0]:.1f} m, Tp {c.tp_s[0]:.1f} s, from {c.dir_deg[0]:.0f} deg"
+        limit = scenario.info.get("scenario", {}).get("growth_limit")
+        return text + (f" ({limit}-limited)" if limit else "")
+    mean = float(np.average(c.hs_m, weights=c.duration_s))
+    return f"record of {len(c)} steps, mean Hs {mean:.2f} m"
 
 
 def _cmd_transects(args: argparse.Namespace) -> int:

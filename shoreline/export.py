@@ -46,6 +46,14 @@ HOTSPOT_COLUMNS = (
 )
 
 
+#: Hotspot columns of a storm event, whose hotspots are runs of shoreline shift, not rate.
+EVENT_HOTSPOT_NAMES = {
+    "mean_rate_m_per_yr": "mean_shift_m",
+    "peak_rate_m_per_yr": "peak_shift_m",
+    "volume_m3_per_yr": "volume_m3",
+}
+
+
 def key_settings(result: RunResult) -> dict[str, Any]:
     """The settings a reader of one layer needs to know how it was made."""
     st = result.study.settings
@@ -193,6 +201,8 @@ def hotspot_frame(result: RunResult, scenario: ScenarioResult) -> gpd.GeoDataFra
         {"hotspot_id": "int64", "part_id": "int64", "class": "str"}
         | {c: "float64" for c in HOTSPOT_COLUMNS[3:]}
     )
+    if "shoreline_shift_m" in scenario.columns:  # a storm event: hotspots of shoreline shift
+        frame = frame.rename(columns=EVENT_HOTSPOT_NAMES)
     return gpd.GeoDataFrame(frame, geometry=gpd.GeoSeries(geoms, crs=result.transects.working_crs))
 
 
@@ -256,7 +266,21 @@ def write_scenario(folder: Path, result: RunResult, scenario: ScenarioResult) ->
     written.append(climate_path)
     write_json(folder / "summary.json", scenario_summary(result, scenario))
     written.append(folder / "summary.json")
+    if "scenario" in scenario.info:
+        write_json(folder / "scenario.json", scenario_record(scenario))
+        written.append(folder / "scenario.json")
     return written
+
+
+def scenario_record(scenario: ScenarioResult) -> dict[str, Any]:
+    """The scenario.json of a scenario folder: the offshore waves it used and its changes."""
+    return {
+        "name": scenario.name,
+        **scenario.info["scenario"],
+        "closure_depth_m": scenario.closure_depth_m,
+        "versus_baseline": scenario.info.get("versus_baseline", {}),
+        "caution": CAUTION,
+    }
 
 
 def mean_normal_az_deg(normal_az_deg: np.ndarray) -> float:
@@ -312,6 +336,7 @@ def scenario_summary(result: RunResult, scenario: ScenarioResult) -> dict[str, A
             "chainage_m": float(scenario.columns["chainage_m"][worst]),
         },
         "waves": waves_info,
+        "event": "shoreline_shift_m" in scenario.columns,
         "info": scenario.info,
         "caution": CAUTION,
     }

@@ -12,12 +12,12 @@ only sums over time are kept.
 from __future__ import annotations
 
 import time
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
 
-from shoreline import profile, transport, waves
+from shoreline import profile, transport, waves, wind
 from shoreline.budget import (
     Hotspot,
     alongshore_gradient,
@@ -262,8 +262,17 @@ def evaluate(
     climate: WaveClimate,
     sign: np.ndarray,
     chunk_elements: int = DEFAULT_CHUNK_ELEMENTS,
+    event_duration_s: float | None = None,
+    closure_depth_m: float | None = None,
 ) -> ScenarioResult:
-    """Run the chain for one climate: transport, gradient, rate, class, hotspots."""
+    """Run the chain for one climate: transport, gradient, rate, class, hotspots.
+
+    For an event (``event_duration_s`` given: a storm of that length) the transport is the rate
+    while the storm lasts; the volume change per metre of shore is ``-dQ/dx * duration``
+    (positive = gain), the shoreline shift that volume over the active height, and classes and
+    hotspots follow the shift against ``[classify] event_stable_band_m`` instead of the rate.
+    ``closure_depth_m`` overrides the study's (scenarios use the baseline's).
+    """
     m, s, k = study["model"], study["sediment"], study["classify"]
     cerc_k = m["cerc_k"]
     if cerc_k == "del_valle":
@@ -286,7 +295,9 @@ def evaluate(
         chunk_elements=chunk_elements,
     )
     info: dict[str, Any] = {"cerc_k_used": cerc_k}
-    if m["closure_depth_m"] == "hallermeier":
+    if closure_depth_m is not None:
+        dc = float(closure_depth_m)
+    elif m["closure_depth_m"] == "hallermeier":
         dc, he, te = closure_depth_from_record(climate)
         info.update(closure_depth="hallermeier", he_m=he, te_s=te)
     else:
@@ -296,15 +307,25 @@ def evaluate(
     rate = shoreline_change_rate(dqdx, dc, m["berm_height_m"])
     sheltered = red.sheltered_fraction >= 1.0 - 1e-12
     rate = np.where(sheltered & (dqdx == 0), 0.0, rate)
-    klass = classify(rate, sheltered, k["stable_band_m_per_yr"])
+    active_m = dc + m["berm_height_m"]
+    event: dict[str, np.ndarray] = {}
+    if event_duration_s is None:
+        metric, band = rate, k["stable_band_m_per_yr"]
+    else:
+        years = event_duration_s / transport.SECONDS_PER_YEAR
+        volume = -dqdx * years
+        event = {"volume_change_m3_per_m": volume, "shoreline_shift_m": volume / active_m}
+        metric, band = event["shoreline_shift_m"], k["event_stable_band_m"]
+        info["event_duration_h"] = event_duration_s / 3600.0
+    klass = classify(metric, sheltered, band)
     hotspots = find_hotspots(
         klass,
-        rate,
+        metric,
         transects.chainage_m,
         transects.part_id,
         transects.spacing_m,
         transects.part_closed,
-        dc + m["berm_height_m"],
+        active_m,
         k["min_hotspot_length_m"],
     )
     hotspot_id = np.full(len(transects), -1)
@@ -328,6 +349,7 @@ def evaluate(
             "q_neg_m3_per_yr": red.q_neg_m3_per_yr,
             "dqdx_m2_per_yr": dqdx,
             "rate_m_per_yr": rate,
+            **event,
             "class": klass,
             "sheltered_fraction": red.sheltered_fraction,
             "broken_at_input_fraction": red.broken_at_input_fraction,
@@ -344,8 +366,132 @@ def evaluate(
     )
 
 
+def scenario_climate(
+    spec: dict[str, Any], study: Study, baseline: WaveClimate
+) -> tuple[WaveClimate, float | None, dict[str, Any]]:
+    """The offshore climate of one ``[[scenario]]``: ``(climate, event_duration_s, info)``.
+
+    - a steady storm: its condition for ``duration_h`` (an event), or standing for a year;
+    - a storm from the wind: deep-water waves grown by the wind over the fetch and duration
+      (CEM 2002 Part II-2, :func:`shoreline.wind.wind_waves`), the waves coming from the wind's
+      direction, for ``duration_h`` (an event);
+    - a changed climate: the baseline record (or the scenario's own file) with heights and
+      periods scaled and directions rotated; rates per year like the baseline.
+    """
+    kind = spec["kind"]
+    if kind == "climate":
+        source = baseline
+        if spec["file"] is not None:
+            depth = baseline.depth_m if spec["depth_m"] is None else _depth(spec["depth_m"])
+            source = read_record_csv(
+                study.folder / spec["file"], depth_m=depth, max_gap_h=study["waves"]["max_gap_h"]
+            )
+        hs_f = 1.0 if spec["hs_factor"] is None else spec["hs_factor"]
+        tp_f = 1.0 if spec["tp_factor"] is None else spec["tp_factor"]
+        shift = 0.0 if spec["dir_shift_deg"] is None else spec["dir_shift_deg"]
+        climate = replace(
+            source,
+            hs_m=source.hs_m * hs_f,
+            tp_s=source.tp_s * tp_f,
+            dir_deg=(source.dir_deg + shift) % 360.0,
+            kind="record" if source.kind == "record" else "steady",
+        )
+        info = {"kind": kind, "source": source.source, "hs_factor": hs_f, "tp_factor": tp_f}
+        return climate, None, info | {"dir_shift_deg": shift}
+    duration_s = None if spec["duration_h"] is None else spec["duration_h"] * 3600.0
+    if kind == "storm":
+        depth = baseline.depth_m if spec["depth_m"] is None else _depth(spec["depth_m"])
+        hs, tp, direction, limit = spec["hs_m"], spec["tp_s"], spec["dir_deg"], None
+    else:
+        hm0, tpw, lim = wind.wind_waves(
+            spec["wind_speed_m_s"], spec["fetch_km"] * 1000.0, duration_s, form="cem"
+        )
+        hs, tp, direction, depth = float(hm0), float(tpw), spec["wind_dir_deg"], np.inf
+        limit = str(np.asarray(lim).item())
+        if not hs > 0:
+            raise StudyError(
+                f"{study.path.name}: [scenario {spec['name']!r}] the wind makes no waves "
+                f"(wind {spec['wind_speed_m_s']} m/s over {spec['fetch_km']} km)"
+            )
+    climate = steady(hs, tp, direction, depth_m=depth)
+    if duration_s is not None:
+        climate = replace(climate, duration_s=np.array([duration_s]))
+    info = {"kind": kind, "hs_m": hs, "tp_s": tp, "dir_deg": float(direction) % 360.0}
+    info["depth_m"] = "deep" if np.isinf(depth) else depth
+    if limit is not None:
+        info |= {
+            "growth_limit": limit,
+            "wind_speed_m_s": spec["wind_speed_m_s"],
+            "wind_dir_deg": spec["wind_dir_deg"],
+            "fetch_km": spec["fetch_km"],
+            "method": "CEM 2002 Part II-2, Eqs. II-2-36 to II-2-38 (deep water)",
+        }
+    if duration_s is not None:
+        info["duration_h"] = spec["duration_h"]
+    return climate, duration_s, info
+
+
+def _depth(value: Any) -> float:
+    return np.inf if value == "deep" else float(value)
+
+
+def compare_with_baseline(
+    scenario: ScenarioResult, baseline: ScenarioResult, band: float
+) -> dict[str, Any]:
+    """Add changes against the baseline to a scenario; return what its hotspots do.
+
+    A changed climate (rates per year) gets ``rate_change_m_per_yr``; a storm event gets
+    ``volume_change_vs_baseline_m3_per_m`` (its volume change less what the baseline climate
+    does in the same time). Hotspots of the same class on the same part that overlap along the
+    shore are the same hotspot; a scenario hotspot with no such baseline one is *created*, a
+    baseline one with no such scenario one is *removed*, and an overlapping one whose peak is
+    larger in magnitude by more than 10 % and more than the stable band ``band`` is *worsened*
+    (climates only: a storm's hotspots are of shoreline shift,
+    not rate, and are listed as the storm's own).
+    """
+    cols = scenario.columns
+    if "shoreline_shift_m" in cols:
+        years = scenario.info["event_duration_h"] * 3600.0 / transport.SECONDS_PER_YEAR
+        base = -baseline.columns["dqdx_m2_per_yr"] * years
+        cols["volume_change_vs_baseline_m3_per_m"] = cols["volume_change_m3_per_m"] - base
+        return {"event": True, "hotspots": [h.hotspot_id for h in scenario.hotspots]}
+    cols["rate_change_m_per_yr"] = cols["rate_m_per_yr"] - baseline.columns["rate_m_per_yr"]
+
+    def overlaps(a: Hotspot, b: Hotspot) -> bool:
+        return (
+            a.klass == b.klass
+            and a.part_id == b.part_id
+            and bool(np.intersect1d(a.members, b.members).size)
+        )
+
+    created = [h for h in scenario.hotspots if not any(overlaps(h, b) for b in baseline.hotspots)]
+    removed = [b for b in baseline.hotspots if not any(overlaps(h, b) for h in scenario.hotspots)]
+    worsened = [
+        (h, b)
+        for h in scenario.hotspots
+        for b in baseline.hotspots
+        if overlaps(h, b)
+        and abs(h.peak_rate_m_per_yr) - abs(b.peak_rate_m_per_yr)
+        > max(band, 0.1 * abs(b.peak_rate_m_per_yr))
+    ]
+    return {
+        "event": False,
+        "created": [h.hotspot_id for h in created],
+        "removed_baseline": [b.hotspot_id for b in removed],
+        "worsened": [
+            {
+                "hotspot_id": h.hotspot_id,
+                "baseline_hotspot_id": b.hotspot_id,
+                "peak_rate_m_per_yr": h.peak_rate_m_per_yr,
+                "baseline_peak_rate_m_per_yr": b.peak_rate_m_per_yr,
+            }
+            for h, b in worsened
+        ],
+    }
+
+
 def run_study(study: Study, chunk_elements: int = DEFAULT_CHUNK_ELEMENTS) -> RunResult:
-    """Run a validated study; return every result in memory (nothing is written here)."""
+    """Run a validated study and its scenarios; return every result (nothing is written)."""
     timings: dict[str, float] = {}
     t0 = time.perf_counter()
     climate = load_climate(study)
@@ -358,18 +504,41 @@ def run_study(study: Study, chunk_elements: int = DEFAULT_CHUNK_ELEMENTS) -> Run
     baseline = evaluate("baseline", study, coast, transects, climate, sign, chunk_elements)
     timings["baseline"] = time.perf_counter() - t0
     warnings = list(coast.warnings) + list(climate.warnings)
-    broken = baseline.columns["broken_at_input_fraction"]
-    if np.any(broken > 0):
-        warnings.append(
-            f"waves already breaking at their input depth ({climate.depth_m:g} m) for "
-            f"{float(np.max(broken)) * 100:.1f} % of the time at worst: their breaking height is "
-            "capped at breaker_index x depth; give the waves at a deeper point"
+    results = [baseline]
+    for spec in study.scenarios:
+        t0 = time.perf_counter()
+        sc_climate, duration_s, info = scenario_climate(spec, study, climate)
+        result = evaluate(
+            spec["name"],
+            study,
+            coast,
+            transects,
+            sc_climate,
+            sign,
+            chunk_elements,
+            event_duration_s=duration_s,
+            closure_depth_m=baseline.closure_depth_m,
         )
+        result.info |= {"scenario": info}
+        result.info["versus_baseline"] = compare_with_baseline(
+            result, baseline, study["classify"]["stable_band_m_per_yr"]
+        )
+        results.append(result)
+        timings[f"scenario:{spec['name']}"] = time.perf_counter() - t0
+    for result in results:
+        broken = result.columns["broken_at_input_fraction"]
+        if np.any(broken > 0):
+            warnings.append(
+                f"[{result.name}] waves already breaking at their input depth "
+                f"({result.climate.depth_m:g} m) for {float(np.max(broken)) * 100:.1f} % of the "
+                "time at worst: their breaking height is capped at breaker_index x depth; give "
+                "the waves at a deeper point"
+            )
     return RunResult(
         study=study,
         coast=coast,
         transects=transects,
-        scenarios=[baseline],
+        scenarios=results,
         timings_s=timings,
         warnings=warnings,
     )

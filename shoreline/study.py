@@ -151,7 +151,57 @@ SCHEMA: dict[str, dict[str, Key]] = {
         "min_hotspot_length_m": Key(
             "float", 300.0, check=_non_negative, doc="shortest run that is a hotspot"
         ),
+        "event_stable_band_m": Key(
+            "float",
+            1.0,
+            check=_non_negative,
+            doc="storm events: |shoreline shift| below this is stable",
+        ),
     },
+}
+
+
+def _name(v: Any) -> str | None:
+    ok = bool(v) and len(v) <= 64 and all(c.isalnum() or c in "-_" for c in v)
+    if not ok or v == "baseline" or v.startswith((".", "-")):
+        return "a folder-safe name (letters, digits, - and _), not 'baseline'"
+    return None
+
+
+def _factor(v: Any) -> str | None:
+    return None if 0 < v <= 10 else "a factor in (0, 10]"
+
+
+def _fetch(v: Any) -> str | None:
+    if isinstance(v, str):
+        return None if v == "auto" else '"auto" or a fetch in km > 0'
+    return None if v > 0 else '"auto" or a fetch in km > 0'
+
+
+#: Keys of one ``[[scenario]]`` table. A scenario is one of three kinds, told apart by its keys:
+#: a steady storm (``hs_m``, ``tp_s``, ``dir_deg``), a storm from the wind
+#: (``wind_speed_m_s``, ``wind_dir_deg``, ``fetch_km``) or a changed climate (the baseline
+#: record or its own ``file``, modified by ``hs_factor``, ``tp_factor``, ``dir_shift_deg``).
+SCENARIO_KEYS: dict[str, Key] = {
+    "name": Key("str", required=True, check=_name, doc="name, also its output folder"),
+    "hs_m": Key("float", check=_positive, doc="steady storm: significant height"),
+    "tp_s": Key("float", check=_positive, doc="steady storm: peak period"),
+    "dir_deg": Key("float", check=_direction, doc="steady storm: direction waves come from"),
+    "depth_m": Key("float-or-str", check=_depth, doc="depth of the waves (default: baseline's)"),
+    "duration_h": Key("float", check=_positive, doc="length of the event, hours"),
+    "wind_speed_m_s": Key("float", check=_positive, doc="wind storm: wind speed U10"),
+    "wind_dir_deg": Key("float", check=_direction, doc="wind storm: direction wind comes from"),
+    "fetch_km": Key("float-or-str", check=_fetch, doc="wind storm: straight-line fetch"),
+    "hs_factor": Key("float", check=_factor, doc="changed climate: factor on heights"),
+    "tp_factor": Key("float", check=_factor, doc="changed climate: factor on periods"),
+    "dir_shift_deg": Key("float", check=_direction, doc="changed climate: added to directions"),
+    "file": Key("str", doc="changed climate: a record of its own instead of the baseline's"),
+}
+
+_KIND_KEYS = {
+    "storm": ("hs_m", "tp_s", "dir_deg"),
+    "wind": ("wind_speed_m_s", "wind_dir_deg", "fetch_km"),
+    "climate": ("hs_factor", "tp_factor", "dir_shift_deg", "file"),
 }
 
 
@@ -166,6 +216,7 @@ class Study:
     path: Path
     raw: dict[str, Any]
     settings: dict[str, dict[str, Any]] = field(default_factory=dict)
+    scenarios: list[dict[str, Any]] = field(default_factory=list)
 
     def __getitem__(self, section: str) -> dict[str, Any]:
         """Return the settings of one section."""
@@ -235,32 +286,16 @@ def validate(raw: dict[str, Any], path: Path) -> Study:
         key, or an inconsistent combination (a steady condition and a record file together).
     """
     for name, table in raw.items():
+        if name == "scenario":
+            continue
         if name not in SCHEMA:
-            raise _unknown(path, name, list(SCHEMA), None)
+            raise _unknown(path, name, [*SCHEMA, "scenario"], None)
         if not isinstance(table, dict):
             raise StudyError(f"{path.name}: [{name}] must be a table of keys, not a value")
-    settings: dict[str, dict[str, Any]] = {}
-    for section, keys in SCHEMA.items():
-        table = raw.get(section, {})
-        for key in table:
-            if key not in keys:
-                raise _unknown(path, key, list(keys), section)
-        values: dict[str, Any] = {}
-        for key, spec in keys.items():
-            if key not in table:
-                if spec.required:
-                    raise StudyError(f"{_where(path, section, key)}: required key is missing")
-                values[key] = spec.default
-                continue
-            value = _coerce(path, section, key, spec, table[key])
-            if spec.check is not None:
-                expected = spec.check(value)
-                if expected:
-                    where = _where(path, section, key)
-                    raise StudyError(f"{where} = {value!r}: expected {expected}")
-            values[key] = value
-        settings[section] = values
-
+    settings = {
+        section: _validate_table(path, section, raw.get(section, {}), keys)
+        for section, keys in SCHEMA.items()
+    }
     waves = settings["waves"]
     steady = [k for k in ("hs_m", "tp_s", "dir_deg") if waves[k] is not None]
     if waves["file"] is not None and steady:
@@ -287,7 +322,90 @@ def validate(raw: dict[str, Any], path: Path) -> Study:
             f'{path.name}: [model] closure_depth_m = "hallermeier" needs a wave record '
             "([waves] file): the height exceeded 12 hours a year comes from the record"
         )
-    return Study(path=path.resolve(), raw=raw, settings=settings)
+    scenarios = _validate_scenarios(path, raw.get("scenario", []), settings)
+    return Study(path=path.resolve(), raw=raw, settings=settings, scenarios=scenarios)
+
+
+def _validate_table(
+    path: Path, section: str, table: dict[str, Any], keys: dict[str, Key]
+) -> dict[str, Any]:
+    """Check one table against its keys; return the values with defaults filled."""
+    for key in table:
+        if key not in keys:
+            raise _unknown(path, key, list(keys), section)
+    values: dict[str, Any] = {}
+    for key, spec in keys.items():
+        if key not in table:
+            if spec.required:
+                raise StudyError(f"{_where(path, section, key)}: required key is missing")
+            values[key] = spec.default
+            continue
+        value = _coerce(path, section, key, spec, table[key])
+        if spec.check is not None:
+            expected = spec.check(value)
+            if expected:
+                where = _where(path, section, key)
+                raise StudyError(f"{where} = {value!r}: expected {expected}")
+        values[key] = value
+    return values
+
+
+def _validate_scenarios(
+    path: Path, tables: Any, settings: dict[str, dict[str, Any]]
+) -> list[dict[str, Any]]:
+    """Check the ``[[scenario]]`` tables; return them with their ``kind`` added."""
+    if not isinstance(tables, list) or not all(isinstance(t, dict) for t in tables):
+        raise StudyError(f"{path.name}: scenarios are written as [[scenario]] tables")
+    out: list[dict[str, Any]] = []
+    seen: set[str] = set()
+    for number, table in enumerate(tables, start=1):
+        label = f"scenario {number}"
+        if isinstance(table.get("name"), str):
+            label = f"scenario {table['name']!r}"
+        values = _validate_table(path, label, table, SCENARIO_KEYS)
+        given = {k for k in table if k != "name"}
+        kinds = [k for k, keys in _KIND_KEYS.items() if given & set(keys)]
+        if len(kinds) != 1:
+            raise StudyError(
+                f"{path.name}: [{label}] must be one kind: a steady storm (hs_m, tp_s, dir_deg), "
+                "a storm from the wind (wind_speed_m_s, wind_dir_deg, fetch_km) or a changed "
+                "climate (hs_factor, tp_factor, dir_shift_deg, file)"
+                + (f"; found keys of {' and '.join(kinds)}" if kinds else "")
+            )
+        kind = kinds[0]
+        if kind in ("storm", "wind"):
+            missing = [k for k in _KIND_KEYS[kind] if values[k] is None]
+            if missing:
+                raise StudyError(f"{path.name}: [{label}] missing {', '.join(missing)}")
+        if kind == "wind" and values["duration_h"] is None:
+            raise StudyError(
+                f"{path.name}: [{label}] duration_h is required for a storm from the wind"
+            )
+        if kind == "wind" and values["depth_m"] is not None:
+            raise StudyError(
+                f"{path.name}: [{label}] depth_m does not apply to a storm from the wind "
+                "(the growth relations give deep-water waves)"
+            )
+        if kind == "climate" and values["duration_h"] is not None:
+            raise StudyError(
+                f"{path.name}: [{label}] duration_h does not apply to a changed climate "
+                "(its rates are per year)"
+            )
+        if kind == "climate" and values["file"] is None and settings["waves"]["file"] is None:
+            raise StudyError(
+                f"{path.name}: [{label}] a changed climate needs a wave record: the baseline "
+                "([waves] file) or its own file"
+            )
+        if kind == "wind" and values["fetch_km"] == "auto":
+            raise StudyError(
+                f'{path.name}: [{label}] fetch_km = "auto" needs fetch from the coast geometry, '
+                "which this version does not compute yet: give the fetch in km"
+            )
+        if values["name"] in seen:
+            raise StudyError(f"{path.name}: two scenarios are named {values['name']!r}")
+        seen.add(values["name"])
+        out.append({**values, "kind": kind})
+    return out
 
 
 def read_study(path: str | Path) -> Study:

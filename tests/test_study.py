@@ -5,7 +5,7 @@ from pathlib import Path
 import pytest
 
 from shoreline.errors import StudyError
-from shoreline.study import SCHEMA, read_study
+from shoreline.study import SCENARIO_KEYS, SCHEMA, read_study
 
 BASE = """
 [coast]
@@ -91,3 +91,58 @@ def test_every_key_documented():
         assert f"[{section}]" in doc
         for key in keys:
             assert f"`{key}`" in doc, f"docs/study-file.md does not document [{section}] {key}"
+    assert "[[scenario]]" in doc
+    for key in SCENARIO_KEYS:
+        assert f"`{key}`" in doc, f"docs/study-file.md does not document [[scenario]] {key}"
+
+
+SCENARIOS = """
+[[scenario]]
+name = "storm-sw"
+hs_m = 4.0
+tp_s = 11.0
+dir_deg = 215.0
+duration_h = 36.0
+
+[[scenario]]
+name = "gale"
+wind_speed_m_s = 20.0
+wind_dir_deg = 200.0
+fetch_km = 150.0
+duration_h = 12.0
+"""
+
+
+def test_scenarios_read_with_kind(tmp_path):
+    study = read_study(write(tmp_path, BASE + SCENARIOS))
+    assert [(s["name"], s["kind"]) for s in study.scenarios] == [
+        ("storm-sw", "storm"),
+        ("gale", "wind"),
+    ]
+
+
+@pytest.mark.parametrize(
+    ("extra", "words"),
+    [
+        ('[[scenario]]\nname = "x"\nhs_m = 2.0\n', ["missing", "tp_s"]),
+        (
+            '[[scenario]]\nname = "x"\nhs_m = 2.0\ntp_s = 8.0\ndir_deg = 1.0\nhs_factor = 2.0\n',
+            ["one kind"],
+        ),
+        ('[[scenario]]\nname = "baseline"\nhs_factor = 1.1\n', ["name"]),
+        ('[[scenario]]\nname = "x"\nhs_factor = 1.1\n', ["needs a wave record"]),
+        (
+            '[[scenario]]\nname = "x"\nwind_speed_m_s = 9.0\nwind_dir_deg = 1.0\nfetch_km = 5.0\n',
+            ["duration_h"],
+        ),
+        (
+            '[[scenario]]\nname = "x"\nhs_m = 2.0\ntp_s = 8.0\ndir_deg = 1.0\nduraton_h = 3.0\n',
+            ["duraton_h", "duration_h"],
+        ),
+    ],
+)
+def test_bad_scenarios(tmp_path, extra, words):
+    with pytest.raises(StudyError) as err:
+        read_study(write(tmp_path, BASE + "\n" + extra))
+    for word in words:
+        assert word in str(err.value)

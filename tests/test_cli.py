@@ -1,0 +1,165 @@
+"""Bad input through the command line: one clear line, a non-zero exit, no traceback."""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import geopandas as gpd
+import numpy as np
+import pytest
+import shapely
+
+from shoreline.cli import main
+
+GOOD_COAST = shapely.LineString([(500_000.0, 4_000_000.0), (505_000.0, 4_000_000.0)])
+
+
+def study_text(coast="coast.gpkg", waves="hs_m = 1.2\ntp_s = 8.0\ndir_deg = 200.0", extra=""):
+    return f'[coast]\nfile = "{coast}"\nsea = "right"\n\n[waves]\n{waves}\n{extra}'
+
+
+def setup(tmp_path: Path, text: str, geoms=(GOOD_COAST,), crs="EPSG:32631") -> Path:
+    gpd.GeoDataFrame(geometry=list(geoms), crs=crs).to_file(tmp_path / "coast.gpkg")
+    path = tmp_path / "study.toml"
+    path.write_text(text, encoding="utf-8")
+    return path
+
+
+def run_cli(capsys, *args) -> tuple[int, str]:
+    code = main(["run", *map(str, args), "--no-figures", "--quiet"])
+    err = capsys.readouterr().err.strip()
+    return code, err
+
+
+def assert_one_line(code: int, err: str, *words: str) -> None:
+    assert code != 0
+    assert len(err.splitlines()) == 1, err
+    assert "Traceback" not in err
+    for word in words:
+        assert word in err, err
+
+
+def record(tmp_path: Path, body: str) -> None:
+    (tmp_path / "w.csv").write_text(body, encoding="utf-8")
+
+
+def test_missing_coast_file(tmp_path, capsys):
+    path = tmp_path / "study.toml"
+    path.write_text(study_text(coast="nowhere.gpkg"))
+    assert_one_line(*run_cli(capsys, path), "nowhere.gpkg")
+
+
+def test_unreadable_coast_file(tmp_path, capsys):
+    path = setup(tmp_path, study_text(coast="bad.geojson"))
+    (tmp_path / "bad.geojson").write_text("this is not GeoJSON")
+    assert_one_line(*run_cli(capsys, path), "bad.geojson")
+
+
+def test_coast_with_only_points(tmp_path, capsys):
+    path = setup(tmp_path, study_text(), geoms=[shapely.Point(500_000, 4_000_000)])
+    assert_one_line(*run_cli(capsys, path), "coast.gpkg", "Point")
+
+
+def test_coast_with_no_features(tmp_path, capsys):
+    empty = gpd.GeoDataFrame({"a": []}, geometry=gpd.GeoSeries([], crs="EPSG:32631"))
+    empty.to_file(tmp_path / "empty.gpkg")
+    path = tmp_path / "study.toml"
+    path.write_text(study_text(coast="empty.gpkg"))
+    assert_one_line(*run_cli(capsys, path), "empty.gpkg")
+
+
+def test_no_crs(tmp_path, capsys):
+    # a Shapefile written without its .prj carries no CRS
+    gpd.GeoDataFrame(geometry=[GOOD_COAST]).to_file(tmp_path / "c.shp")
+    path = tmp_path / "study.toml"
+    path.write_text(study_text(coast="c.shp"))
+    assert_one_line(*run_cli(capsys, path), "crs")
+
+
+@pytest.mark.parametrize(
+    ("text", "words"),
+    [
+        (study_text(extra="[model]\nberm_hieght_m = 2.0\n"), ["berm_hieght_m", "berm_height_m"]),
+        (study_text(extra='[model]\nberm_height_m = "two"\n'), ["berm_height_m", "number"]),
+        (study_text(waves="hs_m = -1.0\ntp_s = 8.0\ndir_deg = 200.0"), ["hs_m", "> 0"]),
+        (study_text(waves="hs_m = 1.0\ntp_s = 0.0\ndir_deg = 200.0"), ["tp_s", "> 0"]),
+        (study_text().replace('"right"', '"seaward"'), ["sea", "left", "right"]),
+        ("[coast\nfile = 1", ["TOML"]),
+    ],
+)
+def test_bad_study_values(tmp_path, capsys, text, words):
+    assert_one_line(*run_cli(capsys, setup(tmp_path, text)), "study.toml", *words)
+
+
+def test_record_missing_column(tmp_path, capsys):
+    record(tmp_path, "time,hs_m,tp_s\n2031-01-01T00:00Z,1.0,8.0\n")
+    path = setup(tmp_path, study_text(waves='file = "w.csv"'))
+    assert_one_line(*run_cli(capsys, path), "w.csv", "dir_deg")
+
+
+def test_record_unparseable_value_names_line(tmp_path, capsys):
+    record(
+        tmp_path,
+        "# a comment line\ntime,hs_m,tp_s,dir_deg\n2031-01-01T00:00Z,1.0,8.0,200\n"
+        "2031-01-01T01:00Z,1.O,8.0,200\n",
+    )
+    path = setup(tmp_path, study_text(waves='file = "w.csv"'))
+    assert_one_line(*run_cli(capsys, path), "w.csv", "line 4", "hs_m", "1.O")
+
+
+def test_record_bad_time_names_line(tmp_path, capsys):
+    record(tmp_path, "time,hs_m,tp_s,dir_deg\n2031-01-01T00:00Z,1.0,8.0,200\nyesterday,1,8,200\n")
+    path = setup(tmp_path, study_text(waves='file = "w.csv"'))
+    assert_one_line(*run_cli(capsys, path), "w.csv", "line 3", "yesterday")
+
+
+def test_record_nan_rows_skipped_and_counted(tmp_path, capsys):
+    rows = ["time,hs_m,tp_s,dir_deg"]
+    for h in range(6):
+        hs = "NaN" if h == 2 else ("" if h == 4 else "1.0")
+        rows.append(f"2031-01-01T{h:02d}:00Z,{hs},8.0,200")
+    record(tmp_path, "\n".join(rows) + "\n")
+    path = setup(tmp_path, study_text(waves='file = "w.csv"'))
+    out = tmp_path / "out"
+    assert main(["run", str(path), "--out", str(out), "--no-figures"]) == 0
+    printed = capsys.readouterr().out
+    assert "skipped 2 rows" in printed
+    run = json.loads((out / "run.json").read_text())
+    assert run["counts"]["records"] == 4 and run["counts"]["records_skipped"] == 2
+
+
+def test_invalid_geometry_repaired_with_warning(tmp_path, capsys):
+    bowtie = shapely.Polygon(
+        [(500_000, 4_000_000), (502_000, 4_002_000), (502_000, 4_000_000), (500_000, 4_002_000)]
+    )
+    assert not bowtie.is_valid
+    path = setup(tmp_path, study_text(), geoms=[bowtie])
+    out = tmp_path / "out"
+    assert main(["run", str(path), "--out", str(out), "--no-figures"]) == 0
+    printed = capsys.readouterr().out
+    assert "make_valid" in printed or "repaired" in printed
+
+
+def test_console_script_version_and_error_exit():
+    done = subprocess.run(
+        [sys.executable, "-m", "shoreline.cli", "--version"], capture_output=True, text=True
+    )
+    assert done.returncode == 0 and done.stdout.startswith("shoreline ")
+    done = subprocess.run(
+        [sys.executable, "-m", "shoreline.cli", "run", "no-such-study.toml"],
+        capture_output=True,
+        text=True,
+    )
+    assert done.returncode == 2
+    assert done.stderr.count("\n") == 1 and "not found" in done.stderr
+
+
+def test_transects_command(tmp_path, capsys):
+    path = setup(tmp_path, study_text())
+    assert main(["transects", str(path), "--out", str(tmp_path / "chk")]) == 0
+    frame = gpd.read_file(tmp_path / "chk" / "transects.geojson")
+    assert len(frame) == 51  # 5 km at 100 m: both ends included (see docs/parts/coast.md)
+    assert np.allclose(frame["normal_az_deg"], 180.0, atol=1.0)

@@ -52,8 +52,13 @@ class WaveClimate:
     warnings: list[str] = field(default_factory=list)
 
     def __len__(self) -> int:
-        """Number of conditions."""
-        return int(self.hs_m.size)
+        """Number of time steps."""
+        return self.n_steps
+
+    @property
+    def n_steps(self) -> int:
+        """Number of time steps (the last axis of the arrays)."""
+        return int(self.duration_s.size)
 
     @property
     def total_hours(self) -> float:

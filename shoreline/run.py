@@ -11,7 +11,10 @@ only sums over time are kept.
 
 from __future__ import annotations
 
+import os
 import time
+from collections.abc import Callable
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field, replace
 from typing import Any
 
@@ -31,7 +34,7 @@ from shoreline.errors import StudyError
 from shoreline.study import Study
 
 #: Transect-steps evaluated per chunk of the record (bounds the memory of the hot path).
-DEFAULT_CHUNK_ELEMENTS = 1 << 20
+DEFAULT_CHUNK_ELEMENTS = 1 << 17
 
 
 def wrap_deg(angle_deg: np.ndarray) -> np.ndarray:
@@ -42,7 +45,12 @@ def wrap_deg(angle_deg: np.ndarray) -> np.ndarray:
     >>> wrap_deg(np.array([190.0, -190.0, 360.0])).tolist()
     [-170.0, 170.0, 0.0]
     """
-    return (np.asarray(angle_deg) + 180.0) % 360.0 - 180.0
+    a = np.asarray(angle_deg, dtype=float)
+    turns = a + 180.0
+    turns *= 1.0 / 360.0
+    np.floor(turns, out=turns)
+    turns *= 360.0
+    return a - turns
 
 
 def chainage_sign(coast: CoastLines, transects: Transects) -> np.ndarray:
@@ -87,7 +95,11 @@ def transport_reductions(
     water_density_kg_m3: float,
     sediment_density_kg_m3: float,
     porosity: float,
+    point_index: np.ndarray | None = None,
+    angle_step_deg: float = 0.5,
     chunk_elements: int = DEFAULT_CHUNK_ELEMENTS,
+    workers: int | None = None,
+    progress: Callable[[int], None] | None = None,
 ) -> Reductions:
     """Per-transect time means of longshore transport over a wave climate.
 
@@ -98,34 +110,60 @@ def transport_reductions(
 
     Wave fields at breaking (``hb_m``, ``db_m``, ``alpha_b_deg``) are duration-weighted means
     over the time steps in which waves reach the shore (NaN where they never do).
+
+    The record is processed in chunks of about ``chunk_elements`` transect-steps, on
+    ``workers`` threads (numpy releases the interpreter lock in its loops); only sums over time
+    are kept, so memory does not grow with the record. With several wave points (climate
+    arrays of shape (points, steps)), ``point_index`` gives each transect's point. With one
+    wave point, each time step is solved on angle nodes ``angle_step_deg`` apart and
+    interpolated to the transects (:func:`shoreline.waves.breaking_on_angle_nodes`); 0 solves
+    every transect directly.
+    ``progress(steps_done)`` is called after each chunk.
     """
     normal = np.asarray(normal_az_deg, dtype=float)[:, None]
     sgn = np.asarray(sign, dtype=float)[:, None]
     n = normal.shape[0]
+    n_steps = climate.n_steps
     steps = max(1, int(chunk_elements) // max(n, 1))
-    zeros = np.zeros(n)
-    sums = {f"q_{name}": zeros.copy() for name in formulas}
-    for key in ("gross", "pos", "neg", "hb", "db", "ab", "open_s", "broken_s"):
-        sums[key] = zeros.copy()
-    total_s = float(climate.duration_s.sum())
-    depth = climate.depth_m
-    for start in range(0, len(climate), steps):
+    multi = climate.hs_m.ndim == 2
+    if multi and point_index is None:
+        raise ValueError("a climate with several wave points needs point_index per transect")
+    depth = np.asarray(climate.depth_m, dtype=float)
+    depth = depth[point_index][:, None] if depth.ndim == 1 else depth
+
+    def rows(values: np.ndarray, sl: slice) -> np.ndarray:
+        return values[point_index][:, sl] if multi else values[sl][None, :]
+
+    def chunk(start: int) -> dict[str, np.ndarray]:
         sl = slice(start, start + steps)
-        hs = climate.hs_m[sl][None, :]
-        tp = climate.tp_s[sl][None, :]
-        w = climate.duration_s[sl][None, :]
-        angle = sgn * wrap_deg(climate.dir_deg[sl][None, :] - normal)
-        hb, db, ab, broken = waves.breaking(
-            hs,
-            tp,
-            angle,
-            depth_m=depth,
-            breaker_index=breaker_index,
-            method=breaking_method,
-            full_output=True,
-        )
-        reach = np.isfinite(hb) & (np.abs(angle) < 90.0)
+        hs, tp = rows(climate.hs_m, sl), rows(climate.tp_s, sl)
+        w = climate.duration_s[sl]
+        angle = wrap_deg(rows(climate.dir_deg, sl) - normal)
+        angle *= sgn
+        if multi or angle_step_deg <= 0:
+            hb, db, ab, broken = waves.breaking(
+                hs,
+                tp,
+                angle,
+                depth_m=depth,
+                breaker_index=breaker_index,
+                method=breaking_method,
+                full_output=True,
+            )
+        else:
+            hb, db, ab, broken = waves.breaking_on_angle_nodes(
+                hs[0],
+                tp[0],
+                angle,
+                depth_m=float(depth),
+                breaker_index=breaker_index,
+                step_deg=angle_step_deg,
+                method=breaking_method,
+            )
+        reach = np.isfinite(hb)
+        reach &= np.abs(angle) < 90.0
         beach_slope = slope if slope is not None else profile.breaker_zone_slope(db, d50_mm)
+        out: dict[str, np.ndarray] = {}
         for name in formulas:
             q = transport.longshore_transport(
                 name,
@@ -141,32 +179,44 @@ def transport_reductions(
                 sediment_density_kg_m3=sediment_density_kg_m3,
                 porosity=porosity,
             )
-            q = np.where(reach, q, 0.0)
-            sums[f"q_{name}"] += (q * w).sum(axis=1)
+            q[~reach] = 0.0
+            out[f"q_{name}"] = q @ w
             if name == primary:
-                sums["gross"] += (np.abs(q) * w).sum(axis=1)
-                sums["pos"] += (np.where(q > 0, q, 0.0) * w).sum(axis=1)
-                sums["neg"] += (np.where(q < 0, q, 0.0) * w).sum(axis=1)
-        wr = np.where(reach, w, 0.0)
-        sums["open_s"] += wr.sum(axis=1)
-        sums["broken_s"] += np.where(reach & broken, w, 0.0).sum(axis=1)
-        sums["hb"] += np.where(reach, hb * w, 0.0).sum(axis=1)
-        sums["db"] += np.where(reach, db * w, 0.0).sum(axis=1)
-        sums["ab"] += np.where(reach, ab * w, 0.0).sum(axis=1)
+                out["pos"] = np.maximum(q, 0.0) @ w
+                np.abs(q, out=q)
+                out["gross"] = q @ w
+        out["open_s"] = reach.astype(float) @ w
+        out["broken_s"] = (reach & broken).astype(float) @ w
+        for key, values in (("hb", hb), ("db", db), ("ab", ab)):
+            values[~reach] = 0.0
+            out[key] = values @ w
+        return out
+
+    workers = workers or min(2, os.cpu_count() or 1)
+    sums: dict[str, np.ndarray] = {}
+    starts = range(0, n_steps, steps)
+    with ThreadPoolExecutor(max_workers=workers) as pool:
+        for start, part in zip(starts, pool.map(chunk, starts), strict=True):
+            for key, value in part.items():
+                sums[key] = sums[key] + value if key in sums else value
+            if progress is not None:
+                progress(min(steps, n_steps - start))
+    total_s = float(climate.duration_s.sum())
     per_year = transport.SECONDS_PER_YEAR / total_s  # mean m3/s x s/yr = m3/yr
     open_s = sums["open_s"]
     with np.errstate(invalid="ignore", divide="ignore"):
         mean_open = {k: np.where(open_s > 0, sums[k] / open_s, np.nan) for k in ("hb", "db", "ab")}
+    net = sums[f"q_{primary}"]
     return Reductions(
         hours=total_s / 3600.0,
         q_net_m3_per_yr={name: sums[f"q_{name}"] * per_year for name in formulas},
         q_gross_m3_per_yr=sums["gross"] * per_year,
         q_pos_m3_per_yr=sums["pos"] * per_year,
-        q_neg_m3_per_yr=sums["neg"] * per_year,
+        q_neg_m3_per_yr=(net - sums["pos"]) * per_year,
         hb_m=mean_open["hb"],
         db_m=mean_open["db"],
         alpha_b_deg=mean_open["ab"],
-        sheltered_fraction=1.0 - open_s / total_s,
+        sheltered_fraction=np.clip(1.0 - open_s / total_s, 0.0, 1.0),
         broken_at_input_fraction=sums["broken_s"] / total_s,
     )
 
@@ -292,6 +342,7 @@ def evaluate(
         water_density_kg_m3=m["water_density_kg_m3"],
         sediment_density_kg_m3=s["density_kg_m3"],
         porosity=s["porosity"],
+        angle_step_deg=m["angle_step_deg"],
         chunk_elements=chunk_elements,
     )
     info: dict[str, Any] = {"cerc_k_used": cerc_k}
@@ -503,7 +554,7 @@ def run_study(study: Study, chunk_elements: int = DEFAULT_CHUNK_ELEMENTS) -> Run
     t0 = time.perf_counter()
     baseline = evaluate("baseline", study, coast, transects, climate, sign, chunk_elements)
     timings["baseline"] = time.perf_counter() - t0
-    warnings = list(coast.warnings) + list(climate.warnings)
+    warnings = list(coast.warnings) + list(transects.warnings) + list(climate.warnings)
     results = [baseline]
     for spec in study.scenarios:
         t0 = time.perf_counter()

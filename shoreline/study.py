@@ -138,6 +138,9 @@ SCHEMA: dict[str, dict[str, Key]] = {
         "breaking": Key(
             "str", "exact", check=_one_of("exact", "explicit"), doc="breaking solution method"
         ),
+        "angle_step_deg": Key(
+            "float", 0.5, check=_non_negative, doc="angle node spacing for breaking; 0 = direct"
+        ),
         "cerc_k": Key("float-or-str", 0.39, check=_cerc_k, doc="CERC coefficient (Hs form)"),
         "kamphuis_coefficient": Key("float", 2.27, check=_positive, doc="Kamphuis coefficient"),
         "water_density_kg_m3": Key("float", 1025.0, check=_positive, doc="water density"),

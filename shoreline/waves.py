@@ -17,6 +17,7 @@ from numpy.typing import ArrayLike
 __all__ = [
     "BREAKER_INDEX",
     "BREAKING_METHODS",
+    "breaking_on_angle_nodes",
     "G_M_S2",
     "breaker_type",
     "breaking",
@@ -500,6 +501,88 @@ def breaking(
     if full_output:
         return (*result, _out(broken.reshape(shape)))
     return result
+
+
+def breaking_on_angle_nodes(
+    hs_m: ArrayLike,
+    tp_s: ArrayLike,
+    angle_deg: np.ndarray,
+    depth_m: float | None = None,
+    breaker_index: float = BREAKER_INDEX,
+    step_deg: float = 0.5,
+    method: str = "exact",
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """:func:`breaking` for many angles per condition, solved on nodes and interpolated.
+
+    A long run meets each offshore condition (one time step: height, period, input depth)
+    at many angles, one per transect. Here each condition is solved exactly on a grid of
+    angles ``step_deg`` apart spanning the angles it meets, and every angle is interpolated
+    linearly between its two nodes. With 0.5 degree nodes the interpolation error is below
+    1e-4 relative in Hb and db and 0.003 degrees in the angle at breaking (measured against
+    an independent brentq solution in tests/test_waves.py; docs/performance.md).
+
+    Parameters
+    ----------
+    hs_m, tp_s : array_like of shape (t,)
+        Height at the input depth [m] and period [s] of each condition.
+    angle_deg : ndarray of shape (n, t)
+        Angles to the seaward normal [deg] at which each condition (column) is needed.
+    depth_m : float or None
+        Input depth [m] shared by all conditions (None or inf: deep water).
+    breaker_index : float
+        gamma = Hb / db [-].
+    step_deg : float
+        Node spacing [deg]; 0 solves every angle directly.
+    method : {"exact", "explicit"}
+        Solution used at the nodes (see :func:`breaking`).
+
+    Returns
+    -------
+    hb_m, db_m, alpha_b_deg, broken_at_input : ndarrays of shape (n, t)
+        As :func:`breaking` with ``full_output=True``. Angles of 89.9 degrees or more in
+        magnitude (within a tenth of a degree of parallel to the shore) give NaN.
+    """
+    hs = np.asarray(hs_m, dtype=float).reshape(-1)
+    tp = np.asarray(tp_s, dtype=float).reshape(-1)
+    angle = np.asarray(angle_deg, dtype=float)
+    n, t = angle.shape
+    depth = np.inf if depth_m is None else float(depth_m)
+    limit = 89.9
+    inside = np.abs(angle) < limit  # False for NaN too
+    k = n
+    if step_deg > 0 and n >= 4:
+        clipped = np.clip(np.where(inside, angle, 0.0), -limit, limit)
+        lo = np.floor(clipped.min(axis=0) / step_deg) * step_deg
+        hi = np.ceil(clipped.max(axis=0) / step_deg) * step_deg
+        k = int(np.round((hi - lo) / step_deg).max()) + 2
+    if k >= n:  # as many nodes as angles: solve every angle directly
+        out = breaking(hs, tp, angle, depth, breaker_index, method=method, full_output=True)
+        for values in out[:3]:
+            values[~inside] = np.nan
+        out[3][~inside] = False
+        return out
+    nodes = np.clip(lo[:, None] + step_deg * np.arange(k)[None, :], -limit, limit)
+    hb_n, db_n, ab_n, br_n = breaking(
+        hs[:, None], tp[:, None], nodes, depth, breaker_index, method=method, full_output=True
+    )
+    f = np.where(inside, (angle - lo[None, :]) / step_deg, 0.0)
+    i = np.clip(f.astype(np.intp), 0, k - 2)
+    i += (np.arange(t) * k)[None, :]
+    g = nodes.reshape(-1)
+    span = g[i + 1] - g[i]
+    w = np.where(
+        span > 0, (np.where(inside, angle, 0.0) - g[i]) / np.where(span > 0, span, 1.0), 0.0
+    )
+    out = []
+    for values in (hb_n, db_n, ab_n):
+        flat = values.reshape(-1)
+        v0 = flat[i]
+        v = (flat[i + 1] - v0) * w
+        v += v0
+        v[~inside] = np.nan
+        out.append(v)
+    broken = br_n.reshape(-1)[i] & inside
+    return out[0], out[1], out[2], broken
 
 
 def surf_similarity(slope: ArrayLike, hs_m: ArrayLike, tp_s: ArrayLike) -> np.ndarray:

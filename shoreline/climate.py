@@ -11,6 +11,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 
@@ -50,6 +51,9 @@ class WaveClimate:
     skipped: int = 0
     time: np.ndarray | None = None
     warnings: list[str] = field(default_factory=list)
+    point_lon: np.ndarray | None = None
+    point_lat: np.ndarray | None = None
+    point_names: list[str] | None = None
 
     def __len__(self) -> int:
         """Number of time steps."""
@@ -59,6 +63,11 @@ class WaveClimate:
     def n_steps(self) -> int:
         """Number of time steps (the last axis of the arrays)."""
         return int(self.duration_s.size)
+
+    @property
+    def n_points(self) -> int:
+        """Number of wave points (1 for a record of one point)."""
+        return 1 if self.hs_m.ndim == 1 else int(self.hs_m.shape[0])
 
     @property
     def total_hours(self) -> float:
@@ -106,6 +115,29 @@ def durations_s(time: np.ndarray, max_gap_s: float) -> np.ndarray:
     out = np.append(step, median)
     out[:-1][step > max_gap_s] = median
     return out
+
+
+def exceedance_height(
+    hs_m: np.ndarray, duration_s: np.ndarray, hours_per_year: float
+) -> np.ndarray:
+    """Height exceeded ``hours_per_year`` hours a year in a record, per wave point.
+
+    ``hs_m`` has shape (t,) or (points, t); the record's duration-weighted distribution is
+    read at the height above which the record spends ``hours_per_year`` per year.
+
+    Examples
+    --------
+    >>> hs = np.arange(1.0, 8767.0)  # one year, hourly, heights 1 ... 8766 m
+    >>> float(exceedance_height(hs, np.full(hs.size, 3600.0), 12.0))
+    8755.0
+    """
+    hs = np.atleast_2d(hs_m)
+    years = duration_s.sum() / (365.25 * 86400.0)
+    order = np.argsort(-hs, axis=1)
+    hours = np.cumsum(duration_s[order], axis=1) / 3600.0
+    i = np.minimum((hours < hours_per_year * years).sum(axis=1), hs.shape[1] - 1)
+    out = np.take_along_axis(hs, order, axis=1)[np.arange(hs.shape[0]), i]
+    return out if np.ndim(hs_m) == 2 else out[0]
 
 
 def read_record_csv(path: str | Path, depth_m: float, max_gap_h: float = 6.0) -> WaveClimate:
@@ -205,6 +237,182 @@ def read_record_csv(path: str | Path, depth_m: float, max_gap_h: float = 6.0) ->
     )
 
 
+#: Where each netCDF variable is found: its CF standard name and the units accepted.
+CF_VARIABLES = {
+    "hs_m": ("sea_surface_wave_significant_height", ("m", "meter", "meters", "metre", "metres")),
+    "tp_s": (
+        "sea_surface_wave_period_at_variance_spectral_density_maximum",
+        ("s", "sec", "second", "seconds"),
+    ),
+    "dir_deg": (
+        "sea_surface_wave_from_direction",
+        ("degree", "degrees", "degree_true", "degrees_true", "degree_north", "degrees_north"),
+    ),
+}
+
+#: File endings read as netCDF; everything else is read as CSV.
+NETCDF_SUFFIXES = (".nc", ".nc4", ".cdf", ".netcdf")
+
+
+def read_record(
+    path: str | Path, depth_m: float, max_gap_h: float = 6.0, depth_from_file: bool = False
+) -> WaveClimate:
+    """Read a wave record: netCDF (by its ending, see :data:`NETCDF_SUFFIXES`) or CSV."""
+    if Path(path).suffix.lower() in NETCDF_SUFFIXES:
+        return read_record_netcdf(path, depth_m, max_gap_h, depth_from_file)
+    return read_record_csv(path, depth_m, max_gap_h)
+
+
+def read_record_netcdf(
+    path: str | Path, depth_m: float, max_gap_h: float = 6.0, depth_from_file: bool = False
+) -> WaveClimate:
+    """Read a CF-convention netCDF wave record through xarray.
+
+    Variables are found by their CF standard names (:data:`CF_VARIABLES`), whatever they are
+    called, and their units are checked. The time coordinate is the variable with standard
+    name ``time`` (or axis ``T``, or the name ``time``). A second dimension is a set of wave
+    points (output points along the coast): each needs a longitude and latitude (standard
+    names ``longitude`` and ``latitude``) and may have a depth (standard name
+    ``sea_floor_depth_below_sea_surface``, in m), used where ``depth_from_file`` is true.
+    A time step with a missing value at any point is skipped and counted.
+
+    Raises
+    ------
+    WaveRecordError
+        Naming the file, the variable or standard name, and what was expected.
+    """
+    path = Path(path)
+    name = path.name
+    try:
+        import xarray as xr
+    except ImportError:  # pragma: no cover - xarray is in the test extra
+        raise WaveRecordError(
+            f"{name}: reading netCDF needs xarray and netCDF4: pip install xarray netCDF4"
+        ) from None
+    if not path.exists():
+        raise WaveRecordError(f"{path}: wave record file not found")
+    try:
+        ds = xr.open_dataset(path)
+    except Exception as exc:  # any backend failure is a file the user must fix
+        raise WaveRecordError(f"{path}: cannot read as netCDF ({exc})") from None
+    with ds:
+        found = {}
+        for key, (standard, units) in CF_VARIABLES.items():
+            matches = [v for v in ds.data_vars if ds[v].attrs.get("standard_name") == standard]
+            if not matches:
+                raise WaveRecordError(
+                    f"{name}: no variable with standard_name {standard!r} (for {key}); "
+                    f"found variables {', '.join(map(str, ds.data_vars))}"
+                )
+            var = ds[matches[0]]
+            unit = str(var.attrs.get("units", "")).strip()
+            if unit not in units:
+                raise WaveRecordError(
+                    f"{name}: variable {matches[0]!r} ({standard}) has units {unit!r}; "
+                    f"expected {units[0]!r}"
+                )
+            found[key] = var
+        time_name = _time_coordinate(ds, name)
+        other = [d for d in found["hs_m"].dims if d != time_name]
+        if len(other) > 1 or time_name not in found["hs_m"].dims:
+            raise WaveRecordError(
+                f"{name}: wave variables must have dimensions (time) or (time, point); "
+                f"found {found['hs_m'].dims}"
+            )
+        point_dim = other[0] if other else None
+        arrays = {}
+        for key, var in found.items():
+            if set(var.dims) != set(found["hs_m"].dims):
+                raise WaveRecordError(
+                    f"{name}: {var.name!r} has dimensions {var.dims}, unlike the wave height's "
+                    f"{found['hs_m'].dims}"
+                )
+            order = (point_dim, time_name) if point_dim else (time_name,)
+            arrays[key] = np.asarray(var.transpose(*order).values, dtype=float)
+        time = np.asarray(ds[time_name].values)
+        if not np.issubdtype(time.dtype, np.datetime64):
+            raise WaveRecordError(
+                f"{name}: the time coordinate {time_name!r} could not be read as times "
+                "(CF units such as 'hours since 2031-01-01')"
+            )
+        lon = lat = depth = None
+        names = None
+        if point_dim is not None:
+            lon = _point_coordinate(ds, point_dim, "longitude", name)
+            lat = _point_coordinate(ds, point_dim, "latitude", name)
+            names = [str(v) for v in ds[point_dim].values] if point_dim in ds.coords else None
+            depth_vars = [
+                v
+                for v in ds.variables
+                if ds[v].attrs.get("standard_name") == "sea_floor_depth_below_sea_surface"
+            ]
+            if depth_from_file and depth_vars:
+                depth = np.asarray(ds[depth_vars[0]].values, dtype=float).reshape(-1)
+    hs, tp, dr = arrays["hs_m"], arrays["tp_s"], arrays["dir_deg"]
+    missing = np.isnan(hs) | np.isnan(tp) | np.isnan(dr)
+    blank = missing.any(axis=0) if missing.ndim == 2 else missing
+    keep = ~blank
+    for key, arr, ok, expect in (
+        ("hs_m", hs, hs > 0, "heights > 0"),
+        ("tp_s", tp, tp > 0, "periods > 0"),
+        ("dir_deg", dr, (dr >= 0) & (dr <= 360), "directions in [0, 360]"),
+    ):
+        bad = ~ok & ~np.isnan(arr)
+        if bad.any():
+            where = np.argwhere(bad)[0]
+            raise WaveRecordError(
+                f"{name}: {key} = {arr[tuple(where)]:g} at time index {where[-1]}: "
+                f"expected {expect}"
+            )
+    t = time.astype("datetime64[s]")
+    if np.any(np.diff(t.astype(np.int64)) <= 0):
+        i = int(np.flatnonzero(np.diff(t.astype(np.int64)) <= 0)[0]) + 1
+        raise WaveRecordError(f"{name}: time index {i} does not come after the one before it")
+    if not keep.any():
+        raise WaveRecordError(f"{name}: every time step has a missing value; nothing to use")
+    duration = durations_s(t, max_gap_h * 3600.0)
+    skipped = int(blank.sum())
+    warnings = [f"{name}: skipped {skipped} time steps with a missing value"] if skipped else []
+    if depth is not None and not np.all(depth > 0):
+        raise WaveRecordError(f"{name}: the depth of every wave point must be > 0 m")
+    sel = (slice(None), keep) if hs.ndim == 2 else keep
+    return WaveClimate(
+        hs_m=hs[sel],
+        tp_s=tp[sel],
+        dir_deg=dr[sel] % 360.0,
+        duration_s=duration[keep],
+        depth_m=depth if depth is not None else float(depth_m),
+        kind="record",
+        source=str(path),
+        skipped=skipped,
+        time=t[keep],
+        warnings=warnings,
+        point_lon=lon,
+        point_lat=lat,
+        point_names=names,
+    )
+
+
+def _time_coordinate(ds: Any, name: str) -> str:
+    for v in ds.variables:
+        attrs = ds[v].attrs
+        if attrs.get("standard_name") == "time" or attrs.get("axis") == "T":
+            return str(v)
+    if "time" in ds.variables:
+        return "time"
+    raise WaveRecordError(f"{name}: no time coordinate (standard_name 'time' or axis 'T')")
+
+
+def _point_coordinate(ds: Any, dim: str, standard: str, name: str) -> np.ndarray:
+    for v in ds.variables:
+        if ds[v].attrs.get("standard_name") == standard and ds[v].dims == (dim,):
+            return np.asarray(ds[v].values, dtype=float)
+    raise WaveRecordError(
+        f"{name}: the wave points (dimension {dim!r}) need a {standard} variable "
+        f"(standard_name {standard!r}) along {dim!r}"
+    )
+
+
 def _line_numbers(path: Path, n_rows: int) -> np.ndarray:
     """File line number of each data row (1-based), skipping comment and blank lines."""
     numbers = []
@@ -231,16 +439,18 @@ def joint_histogram(
 
     Sectors are ``sector_deg`` wide starting at 0 (the direction waves come from); heights are
     in classes of ``hs_edges_m`` (default 0, 0.5, 1, 1.5, 2, 3, 4, 6, inf m). Only non-empty bins
-    are returned.
+    are returned. With several wave points, every point counts equally (hours are averaged).
     """
     edges = np.asarray(
         hs_edges_m if hs_edges_m is not None else (0, 0.5, 1, 1.5, 2, 3, 4, 6, np.inf), float
     )
     n_sec = int(round(360.0 / sector_deg))
-    sec = np.floor((climate.dir_deg % 360.0) / sector_deg).astype(int) % n_sec
-    cls = np.clip(np.searchsorted(edges, climate.hs_m, side="right") - 1, 0, edges.size - 2)
+    hs = climate.hs_m.reshape(-1)
+    weight_h = np.broadcast_to(climate.duration_s / 3600.0 / climate.n_points, climate.hs_m.shape)
+    sec = np.floor((climate.dir_deg.reshape(-1) % 360.0) / sector_deg).astype(int) % n_sec
+    cls = np.clip(np.searchsorted(edges, hs, side="right") - 1, 0, edges.size - 2)
     hours = np.zeros((n_sec, edges.size - 1))
-    np.add.at(hours, (sec, cls), climate.duration_s / 3600.0)
+    np.add.at(hours, (sec, cls), weight_h.reshape(-1))
     rows = []
     for i, j in zip(*np.nonzero(hours), strict=True):
         rows.append(

@@ -107,6 +107,8 @@ def _jsonable(value: Any) -> Any:
         return {str(k): _jsonable(v) for k, v in value.items()}
     if isinstance(value, (list, tuple)):
         return [_jsonable(v) for v in value]
+    if isinstance(value, np.ndarray):
+        return [_jsonable(v) for v in value.tolist()]
     if isinstance(value, (np.bool_, bool)):
         return bool(value)
     if isinstance(value, (np.integer,)):
@@ -277,7 +279,7 @@ def scenario_record(scenario: ScenarioResult) -> dict[str, Any]:
     return {
         "name": scenario.name,
         **scenario.info["scenario"],
-        "closure_depth_m": scenario.closure_depth_m,
+        "closure_depth_m": float(np.mean(scenario.closure_depth_m)),
         "versus_baseline": scenario.info.get("versus_baseline", {}),
         "caution": CAUTION,
     }
@@ -322,7 +324,12 @@ def scenario_summary(result: RunResult, scenario: ScenarioResult) -> dict[str, A
         "formulas": st["model"]["formulas"],
         "stable_band_m_per_yr": st["classify"]["stable_band_m_per_yr"],
         "min_hotspot_length_m": st["classify"]["min_hotspot_length_m"],
-        "closure_depth_m": scenario.closure_depth_m,
+        "closure_depth_m": float(np.mean(scenario.closure_depth_m)),
+        "closure_depth_range_m": [
+            float(np.min(scenario.closure_depth_m)),
+            float(np.max(scenario.closure_depth_m)),
+        ],
+        "event_stable_band_m": st["classify"]["event_stable_band_m"],
         "berm_height_m": st["model"]["berm_height_m"],
         "working_crs": crs_label(crs),
         "working_crs_name": crs.name,

@@ -28,7 +28,12 @@ from shoreline.budget import (
     find_hotspots,
     shoreline_change_rate,
 )
-from shoreline.climate import WaveClimate, read_record_csv, steady
+from shoreline.climate import (
+    WaveClimate,
+    exceedance_height,
+    read_record,
+    steady,
+)
 from shoreline.coast import CoastLines, Transects, cast_transects, read_coast
 from shoreline.errors import StudyError
 from shoreline.study import Study
@@ -221,21 +226,42 @@ def transport_reductions(
     )
 
 
-def closure_depth_from_record(climate: WaveClimate) -> tuple[float, float, float]:
-    """Hallermeier (1981) closure depth from a record: ``(dc_m, he_m, te_s)``.
+def closure_depth_from_record(climate: WaveClimate) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Hallermeier (1981) closure depth per wave point: ``(dc_m, he_m, te_s)``.
 
     ``He`` is the significant height exceeded 12 hours a year (duration-weighted), ``Te`` the
     median peak period of the conditions at or above ``He``. The record's offshore heights
     stand in for the nearshore ones of the original method (a screening simplification).
+    Arrays of one value per wave point.
     """
-    order = np.argsort(climate.hs_m)[::-1]
-    hours = np.cumsum(climate.duration_s[order]) / 3600.0
-    years = climate.total_hours / (365.25 * 24.0)
-    i = int(np.searchsorted(hours, 12.0 * years))
-    i = min(i, order.size - 1)
-    he = float(climate.hs_m[order][i])
-    te = float(np.median(climate.tp_s[climate.hs_m >= he]))
-    return float(profile.hallermeier_closure_depth(he, te)), he, te
+    hs = np.atleast_2d(climate.hs_m)
+    tp = np.atleast_2d(climate.tp_s)
+    he = np.atleast_1d(exceedance_height(hs, climate.duration_s, 12.0))
+    te = np.array([np.median(t[h >= e]) for h, t, e in zip(hs, tp, he, strict=True)])
+    return np.asarray(profile.hallermeier_closure_depth(he, te), dtype=float), he, te
+
+
+def wave_statistics(climate: WaveClimate) -> tuple[np.ndarray, np.ndarray]:
+    """Duration-weighted mean Hs and Hs exceeded 12 hours a year, per wave point [m]."""
+    hs = np.atleast_2d(climate.hs_m)
+    mean = hs @ climate.duration_s / climate.duration_s.sum()
+    return mean, np.atleast_1d(exceedance_height(hs, climate.duration_s, 12.0))
+
+
+def nearest_wave_point(climate: WaveClimate, transects: Transects) -> np.ndarray:
+    """Index of the wave point nearest each transect's shore point (0 for one point).
+
+    Distances are taken in the working CRS (metres on the ground, near enough for choosing).
+    """
+    if climate.n_points == 1:
+        return np.zeros(len(transects), dtype=int)
+    from pyproj import Transformer
+    from scipy.spatial import cKDTree
+
+    to_grid = Transformer.from_crs("EPSG:4326", transects.working_crs, always_xy=True)
+    px, py = to_grid.transform(climate.point_lon, climate.point_lat)
+    _, index = cKDTree(np.c_[px, py]).query(np.c_[transects.x_m, transects.y_m])
+    return np.asarray(index, dtype=int)
 
 
 @dataclass
@@ -267,7 +293,12 @@ def load_climate(study: Study) -> WaveClimate:
     w = study["waves"]
     depth = np.inf if w["depth_m"] == "deep" else float(w["depth_m"])
     if study.wave_file is not None:
-        return read_record_csv(study.wave_file, depth_m=depth, max_gap_h=w["max_gap_h"])
+        return read_record(
+            study.wave_file,
+            depth_m=depth,
+            max_gap_h=w["max_gap_h"],
+            depth_from_file="depth_m" not in study.raw.get("waves", {}),
+        )
     return steady(w["hs_m"], w["tp_s"], w["dir_deg"], depth_m=depth)
 
 
@@ -313,7 +344,8 @@ def evaluate(
     sign: np.ndarray,
     chunk_elements: int = DEFAULT_CHUNK_ELEMENTS,
     event_duration_s: float | None = None,
-    closure_depth_m: float | None = None,
+    closure_depth_m: np.ndarray | None = None,
+    point_index: np.ndarray | None = None,
 ) -> ScenarioResult:
     """Run the chain for one climate: transport, gradient, rate, class, hotspots.
 
@@ -321,8 +353,12 @@ def evaluate(
     while the storm lasts; the volume change per metre of shore is ``-dQ/dx * duration``
     (positive = gain), the shoreline shift that volume over the active height, and classes and
     hotspots follow the shift against ``[classify] event_stable_band_m`` instead of the rate.
-    ``closure_depth_m`` overrides the study's (scenarios use the baseline's).
+    ``closure_depth_m`` (per transect) overrides the study's (scenarios use the baseline's);
+    ``point_index`` gives each transect's wave point for a climate of several points.
     """
+    n = len(transects)
+    if point_index is None or climate.n_points == 1:
+        point_index = np.zeros(n, dtype=int)
     m, s, k = study["model"], study["sediment"], study["classify"]
     cerc_k = m["cerc_k"]
     if cerc_k == "del_valle":
@@ -343,16 +379,19 @@ def evaluate(
         sediment_density_kg_m3=s["density_kg_m3"],
         porosity=s["porosity"],
         angle_step_deg=m["angle_step_deg"],
+        point_index=point_index if climate.n_points > 1 else None,
         chunk_elements=chunk_elements,
     )
     info: dict[str, Any] = {"cerc_k_used": cerc_k}
     if closure_depth_m is not None:
-        dc = float(closure_depth_m)
+        dc = np.broadcast_to(np.asarray(closure_depth_m, dtype=float), (n,))
     elif m["closure_depth_m"] == "hallermeier":
-        dc, he, te = closure_depth_from_record(climate)
-        info.update(closure_depth="hallermeier", he_m=he, te_s=te)
+        dc_p, he, te = closure_depth_from_record(climate)
+        dc = dc_p[point_index]
+        info.update(closure_depth="hallermeier", he_m=he.tolist(), te_s=te.tolist())
     else:
-        dc = float(m["closure_depth_m"])
+        dc = np.full(n, float(m["closure_depth_m"]))
+    hs_mean, hs_12h = (v[point_index] for v in wave_statistics(climate))
     q = red.q_net_m3_per_yr[m["primary"]]
     dqdx = alongshore_gradient(q, transects.part_id, transects.spacing_m, transects.part_closed)
     rate = shoreline_change_rate(dqdx, dc, m["berm_height_m"])
@@ -391,6 +430,11 @@ def evaluate(
         "db_m": red.db_m,
         "alpha_b_deg": red.alpha_b_deg,
     }
+    if climate.n_points > 1:
+        names = climate.point_names
+        columns["wave_point"] = (
+            np.asarray(names, dtype=object)[point_index].astype(str) if names else point_index
+        )
     for fname in m["formulas"]:
         columns[f"q_{fname}_m3_per_yr"] = red.q_net_m3_per_yr[fname]
     columns.update(
@@ -403,6 +447,9 @@ def evaluate(
             **event,
             "class": klass,
             "sheltered_fraction": red.sheltered_fraction,
+            "hs_mean_m": hs_mean,
+            "hs_12h_m": hs_12h,
+            "closure_depth_m": dc,
             "broken_at_input_fraction": red.broken_at_input_fraction,
             "hotspot_id": hotspot_id,
         }
@@ -434,8 +481,11 @@ def scenario_climate(
         source = baseline
         if spec["file"] is not None:
             depth = baseline.depth_m if spec["depth_m"] is None else _depth(spec["depth_m"])
-            source = read_record_csv(
-                study.folder / spec["file"], depth_m=depth, max_gap_h=study["waves"]["max_gap_h"]
+            source = read_record(
+                study.folder / spec["file"],
+                depth_m=depth,
+                max_gap_h=study["waves"]["max_gap_h"],
+                depth_from_file=spec["depth_m"] is None,
             )
         hs_f = 1.0 if spec["hs_factor"] is None else spec["hs_factor"]
         tp_f = 1.0 if spec["tp_factor"] is None else spec["tp_factor"]
@@ -551,8 +601,11 @@ def run_study(study: Study, chunk_elements: int = DEFAULT_CHUNK_ELEMENTS) -> Run
     coast, transects = load_transects(study)
     sign = chainage_sign(coast, transects)
     timings["transects"] = time.perf_counter() - t0
+    point_index = nearest_wave_point(climate, transects)
     t0 = time.perf_counter()
-    baseline = evaluate("baseline", study, coast, transects, climate, sign, chunk_elements)
+    baseline = evaluate(
+        "baseline", study, coast, transects, climate, sign, chunk_elements, point_index=point_index
+    )
     timings["baseline"] = time.perf_counter() - t0
     warnings = list(coast.warnings) + list(transects.warnings) + list(climate.warnings)
     results = [baseline]
@@ -569,6 +622,7 @@ def run_study(study: Study, chunk_elements: int = DEFAULT_CHUNK_ELEMENTS) -> Run
             chunk_elements,
             event_duration_s=duration_s,
             closure_depth_m=baseline.closure_depth_m,
+            point_index=point_index,
         )
         result.info |= {"scenario": info}
         result.info["versus_baseline"] = compare_with_baseline(

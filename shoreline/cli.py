@@ -47,6 +47,13 @@ def build_parser() -> argparse.ArgumentParser:
         "--no-figures", action="store_true", help="skip figures and report (large batch runs)"
     )
     run.add_argument("--quiet", action="store_true", help="print only errors and the caution")
+    run.add_argument(
+        "--chunk",
+        type=int,
+        default=None,
+        metavar="STEPS",
+        help="time steps evaluated at once (memory against speed; default automatic)",
+    )
     tr = sub.add_parser(
         "transects",
         help="write only the transects, to check the geometry in a GIS before a run",
@@ -81,13 +88,36 @@ def _figures_and_report(folder: Path) -> None:
 
 
 def _cmd_run(args: argparse.Namespace, argv: list[str]) -> int:
+    from shoreline.errors import StudyError
     from shoreline.export import utc_now, write_run
     from shoreline.run import run_study
     from shoreline.study import read_study
 
     started = utc_now()
     study = read_study(args.study)
-    result = run_study(study)
+    if args.chunk is not None and args.chunk < 1:
+        raise StudyError(f"--chunk {args.chunk}: expected a whole number of time steps >= 1")
+    bars = []
+
+    def progress(total_steps: int, n_transects: int):
+        from tqdm import tqdm
+
+        bar = tqdm(
+            total=total_steps * n_transects,
+            unit=" transect-steps",
+            unit_scale=True,
+            delay=2.0,
+            disable=args.quiet or not sys.stderr.isatty(),
+            leave=False,
+        )
+        bars.append(bar)
+        return lambda steps: bar.update(steps * n_transects)
+
+    try:
+        result = run_study(study, chunk_steps=args.chunk, progress=progress)
+    finally:
+        for bar in bars:
+            bar.close()
     out = _default_out(args.study, args.out)
     extra = None if args.no_figures else _figures_and_report
     write_run(result, out, ["shoreline", *argv], started, extra=extra)

@@ -102,7 +102,7 @@ def transport_reductions(
     porosity: float,
     point_index: np.ndarray | None = None,
     angle_step_deg: float = 0.5,
-    chunk_elements: int = DEFAULT_CHUNK_ELEMENTS,
+    chunk_steps: int | None = None,
     workers: int | None = None,
     progress: Callable[[int], None] | None = None,
 ) -> Reductions:
@@ -116,7 +116,8 @@ def transport_reductions(
     Wave fields at breaking (``hb_m``, ``db_m``, ``alpha_b_deg``) are duration-weighted means
     over the time steps in which waves reach the shore (NaN where they never do).
 
-    The record is processed in chunks of about ``chunk_elements`` transect-steps, on
+    The record is processed in chunks of ``chunk_steps`` time steps (default: about
+    :data:`DEFAULT_CHUNK_ELEMENTS` transect-steps a chunk), on
     ``workers`` threads (numpy releases the interpreter lock in its loops); only sums over time
     are kept, so memory does not grow with the record. With several wave points (climate
     arrays of shape (points, steps)), ``point_index`` gives each transect's point. With one
@@ -129,7 +130,7 @@ def transport_reductions(
     sgn = np.asarray(sign, dtype=float)[:, None]
     n = normal.shape[0]
     n_steps = climate.n_steps
-    steps = max(1, int(chunk_elements) // max(n, 1))
+    steps = int(chunk_steps) if chunk_steps else max(1, DEFAULT_CHUNK_ELEMENTS // max(n, 1))
     multi = climate.hs_m.ndim == 2
     if multi and point_index is None:
         raise ValueError("a climate with several wave points needs point_index per transect")
@@ -342,10 +343,11 @@ def evaluate(
     transects: Transects,
     climate: WaveClimate,
     sign: np.ndarray,
-    chunk_elements: int = DEFAULT_CHUNK_ELEMENTS,
+    chunk_steps: int | None = None,
     event_duration_s: float | None = None,
     closure_depth_m: np.ndarray | None = None,
     point_index: np.ndarray | None = None,
+    progress: Callable[[int], None] | None = None,
 ) -> ScenarioResult:
     """Run the chain for one climate: transport, gradient, rate, class, hotspots.
 
@@ -380,7 +382,8 @@ def evaluate(
         porosity=s["porosity"],
         angle_step_deg=m["angle_step_deg"],
         point_index=point_index if climate.n_points > 1 else None,
-        chunk_elements=chunk_elements,
+        chunk_steps=chunk_steps,
+        progress=progress,
     )
     info: dict[str, Any] = {"cerc_k_used": cerc_k}
     if closure_depth_m is not None:
@@ -591,8 +594,17 @@ def compare_with_baseline(
     }
 
 
-def run_study(study: Study, chunk_elements: int = DEFAULT_CHUNK_ELEMENTS) -> RunResult:
-    """Run a validated study and its scenarios; return every result (nothing is written)."""
+def run_study(
+    study: Study,
+    chunk_steps: int | None = None,
+    progress: Callable[[int, int], Callable[[int], None]] | None = None,
+) -> RunResult:
+    """Run a validated study and its scenarios; return every result (nothing is written).
+
+    ``chunk_steps`` overrides ``[waves] chunk_steps``. ``progress(total_steps, n_transects)``,
+    if given, is called once with the number of time steps the run will evaluate and returns
+    the callback that each chunk reports its steps to (the command line's progress bar).
+    """
     timings: dict[str, float] = {}
     t0 = time.perf_counter()
     climate = load_climate(study)
@@ -602,16 +614,27 @@ def run_study(study: Study, chunk_elements: int = DEFAULT_CHUNK_ELEMENTS) -> Run
     sign = chainage_sign(coast, transects)
     timings["transects"] = time.perf_counter() - t0
     point_index = nearest_wave_point(climate, transects)
+    chunk_steps = chunk_steps or study["waves"]["chunk_steps"] or None
+    specs = [(spec, *scenario_climate(spec, study, climate)) for spec in study.scenarios]
+    total = climate.n_steps + sum(c.n_steps for _, c, _, _ in specs)
+    tick = progress(total, len(transects)) if progress is not None else None
     t0 = time.perf_counter()
     baseline = evaluate(
-        "baseline", study, coast, transects, climate, sign, chunk_elements, point_index=point_index
+        "baseline",
+        study,
+        coast,
+        transects,
+        climate,
+        sign,
+        chunk_steps,
+        point_index=point_index,
+        progress=tick,
     )
     timings["baseline"] = time.perf_counter() - t0
     warnings = list(coast.warnings) + list(transects.warnings) + list(climate.warnings)
     results = [baseline]
-    for spec in study.scenarios:
+    for spec, sc_climate, duration_s, info in specs:
         t0 = time.perf_counter()
-        sc_climate, duration_s, info = scenario_climate(spec, study, climate)
         result = evaluate(
             spec["name"],
             study,
@@ -619,10 +642,11 @@ def run_study(study: Study, chunk_elements: int = DEFAULT_CHUNK_ELEMENTS) -> Run
             transects,
             sc_climate,
             sign,
-            chunk_elements,
+            chunk_steps,
             event_duration_s=duration_s,
             closure_depth_m=baseline.closure_depth_m,
             point_index=point_index,
+            progress=tick,
         )
         result.info |= {"scenario": info}
         result.info["versus_baseline"] = compare_with_baseline(

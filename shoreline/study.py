@@ -128,6 +128,9 @@ SCHEMA: dict[str, dict[str, Key]] = {
         "max_gap_h": Key(
             "float", 6.0, check=_positive, doc="longest step a record may stand for, hours"
         ),
+        "chunk_steps": Key(
+            "int", 0, check=_non_negative, doc="time steps evaluated at once; 0 = automatic"
+        ),
     },
     "model": {
         "formulas": Key("str-list", ["cerc", "kamphuis"], check=_formulas, doc="formulas to run"),
@@ -257,6 +260,10 @@ def _coerce(path: Path, section: str, key: str, spec: Key, value: Any) -> Any:
         value = float(value)
         if not math.isfinite(value):
             raise StudyError(f"{where} = {value!r}: expected a finite number")
+        return value
+    if kind == "int":
+        if not (isinstance(value, int) and not isinstance(value, bool)):
+            raise StudyError(f"{where} = {value!r}: expected a whole number")
         return value
     if kind in ("str", "float-or-str"):
         if not isinstance(value, str):

@@ -116,9 +116,7 @@ def wave_record(hours: int = 8760, seed: int = SEED) -> dict[str, np.ndarray]:
 def write_waves(path: Path) -> None:
     """Write the invented record as CSV (time, hs_m, tp_s, dir_deg)."""
     rec = wave_record()
-    times = np.datetime64("2031-01-01T00:00") + np.arange(rec["hs_m"].size).astype(
-        "timedelta64[h]"
-    )
+    times = np.datetime64("2031-01-01T00:00") + np.arange(rec["hs_m"].size).astype("timedelta64[h]")
     with open(path, "w", encoding="utf-8") as handle:
         handle.write("# INVENTED wave record for the demo coast (seeded script make_demo.py)\n")
         handle.write("time,hs_m,tp_s,dir_deg\n")

@@ -163,10 +163,15 @@ def chainage_to_grid(transects: Transects, coast: CoastLines, part: int) -> Call
     return to_grid
 
 
-def hotspot_geometry(coast: CoastLines, transects: Transects, h: Any) -> shapely.LineString:
-    """The stretch of shoreline of one hotspot, in the working CRS."""
+def hotspot_geometry(
+    coast: CoastLines, transects: Transects, h: Any, to_grid: Callable | None = None
+) -> shapely.LineString:
+    """The stretch of shoreline of one hotspot, in the working CRS.
+
+    ``to_grid`` is :func:`chainage_to_grid` of the hotspot's part (computed if not given).
+    """
     line = coast.parts[h.part_id]
-    to_grid = chainage_to_grid(transects, coast, h.part_id)
+    to_grid = to_grid or chainage_to_grid(transects, coast, h.part_id)
     a, b = (float(v) for v in to_grid([h.start_chainage_m, h.end_chainage_m]))
     if coast.closed[h.part_id]:
         if h.start_chainage_m == 0.0 and h.members.size == int(
@@ -193,12 +198,15 @@ def hotspot_frame(result: RunResult, scenario: ScenarioResult) -> gpd.GeoDataFra
     """The hotspot layer of one scenario, in the working CRS (an empty layer keeps its schema)."""
     rows = {c: [] for c in HOTSPOT_COLUMNS}
     geoms = []
+    mappers: dict[int, Callable] = {}
     for h in scenario.hotspots:
+        if h.part_id not in mappers:
+            mappers[h.part_id] = chainage_to_grid(result.transects, result.coast, h.part_id)
         rows["hotspot_id"].append(h.hotspot_id)
         rows["class"].append(h.klass)
         for c in HOTSPOT_COLUMNS[2:]:
             rows[c].append(getattr(h, c))
-        geoms.append(hotspot_geometry(result.coast, result.transects, h))
+        geoms.append(hotspot_geometry(result.coast, result.transects, h, mappers[h.part_id]))
     frame = pd.DataFrame(rows).astype(
         {"hotspot_id": "int64", "part_id": "int64", "class": "str"}
         | {c: "float64" for c in HOTSPOT_COLUMNS[3:]}

@@ -551,9 +551,11 @@ def breaking_on_angle_nodes(
     inside = np.abs(angle) < limit  # False for NaN too
     k = n
     if step_deg > 0 and n >= 4:
-        clipped = np.clip(np.where(inside, angle, 0.0), -limit, limit)
-        lo = np.floor(clipped.min(axis=0) / step_deg) * step_deg
-        hi = np.ceil(clipped.max(axis=0) / step_deg) * step_deg
+        low = np.where(inside, angle, np.inf).min(axis=0)
+        high = np.where(inside, angle, -np.inf).max(axis=0)
+        none = low > high  # no angle of this condition reaches the shore
+        lo = np.floor(np.where(none, 0.0, low) / step_deg) * step_deg
+        hi = np.ceil(np.where(none, 0.0, high) / step_deg) * step_deg
         k = int(np.round((hi - lo) / step_deg).max()) + 2
     if k >= n:  # as many nodes as angles: solve every angle directly
         out = breaking(hs, tp, angle, depth, breaker_index, method=method, full_output=True)
@@ -561,28 +563,34 @@ def breaking_on_angle_nodes(
             values[~inside] = np.nan
         out[3][~inside] = False
         return out
+    # the last node is clipped to the limit, so the last interval before it is interpolated
+    # as if it were a full step (angles within half a degree of shore-parallel; negligible)
     nodes = np.clip(lo[:, None] + step_deg * np.arange(k)[None, :], -limit, limit)
-    hb_n, db_n, ab_n, br_n = breaking(
+    hb_n, _, ab_n, br_n = breaking(
         hs[:, None], tp[:, None], nodes, depth, breaker_index, method=method, full_output=True
     )
-    f = np.where(inside, (angle - lo[None, :]) / step_deg, 0.0)
-    i = np.clip(f.astype(np.intp), 0, k - 2)
+    f = angle - lo[None, :]
+    f *= 1.0 / step_deg
+    f[~inside] = 0.0
+    i = f.astype(np.intp)
+    np.minimum(i, k - 2, out=i)
+    f -= i  # the weight of the upper node
     i += (np.arange(t) * k)[None, :]
-    g = nodes.reshape(-1)
-    span = g[i + 1] - g[i]
-    w = np.where(
-        span > 0, (np.where(inside, angle, 0.0) - g[i]) / np.where(span > 0, span, 1.0), 0.0
-    )
     out = []
-    for values in (hb_n, db_n, ab_n):
+    for values in (hb_n, ab_n):
         flat = values.reshape(-1)
-        v0 = flat[i]
-        v = (flat[i + 1] - v0) * w
-        v += v0
+        v = flat[i]
+        upper = flat[i + 1]
+        upper -= v
+        upper *= f
+        v += upper
         v[~inside] = np.nan
         out.append(v)
-    broken = br_n.reshape(-1)[i] & inside
-    return out[0], out[1], out[2], broken
+    hb = out[0]
+    # Hb = gamma db at breaking, also for waves broken at their input depth (db = depth there)
+    db = hb / breaker_index
+    broken = br_n[:, :1].T & inside  # broken at input depends on the condition, not the angle
+    return hb, db, out[1], broken
 
 
 def surf_similarity(slope: ArrayLike, hs_m: ArrayLike, tp_s: ArrayLike) -> np.ndarray:

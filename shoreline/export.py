@@ -216,6 +216,26 @@ def hotspot_frame(result: RunResult, scenario: ScenarioResult) -> gpd.GeoDataFra
     return gpd.GeoDataFrame(frame, geometry=gpd.GeoSeries(geoms, crs=result.transects.working_crs))
 
 
+def structure_frame(result: RunResult, scenario: ScenarioResult) -> gpd.GeoDataFrame:
+    """The structures of a run with what each traps in one scenario (working CRS)."""
+    st = result.structures
+    trap = scenario.trapping
+    zeros = np.zeros(len(st))
+    return gpd.GeoDataFrame(
+        {
+            "structure_id": st.structure_id,
+            "part_id": st.part_id,
+            "chainage_m": st.chainage_m,
+            "bypass": st.bypass,
+            "q_arriving_m3_per_yr": trap.q_arriving_m3_per_yr if trap else zeros,
+            "q_passing_m3_per_yr": trap.q_passing_m3_per_yr if trap else zeros,
+            "trapped_m3_per_yr": trap.trapped_m3_per_yr if trap else zeros,
+        },
+        geometry=list(st.lines),
+        crs=result.transects.working_crs,
+    )
+
+
 def shoreline_frame(result: RunResult) -> gpd.GeoDataFrame:
     """The shoreline parts as read, in the working CRS."""
     coast = result.coast
@@ -245,8 +265,15 @@ def write_scenario(folder: Path, result: RunResult, scenario: ScenarioResult) ->
         path = folder / f"{name}.geojson"
         write_geojson(path, frame, members | {"name": name})
         written.append(path)
+    layers = [("shoreline", shore), ("transects", transects), ("hotspots", hotspots)]
+    if result.structures is not None:
+        frame = structure_frame(result, scenario)
+        path = folder / "structures.geojson"
+        write_geojson(path, frame, members | {"name": "structures"})
+        written.append(path)
+        layers.append(("structures", frame))
     gpkg = folder / "results.gpkg"
-    for name, frame in (("shoreline", shore), ("transects", transects), ("hotspots", hotspots)):
+    for name, frame in layers:
         frame.to_file(gpkg, layer=name, driver="GPKG", engine="pyogrio")
     about = pd.DataFrame(
         {"key": ["caution", "settings"], "value": [CAUTION, json.dumps(_jsonable(settings))]}

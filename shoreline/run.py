@@ -36,6 +36,7 @@ from shoreline.climate import (
 )
 from shoreline.coast import CoastLines, Transects, cast_transects, read_coast
 from shoreline.errors import StudyError
+from shoreline.structures import Structures, Trapping, apply_structures, read_structures
 from shoreline.study import Study
 
 #: Transect-steps evaluated per chunk of the record (bounds the memory of the hot path).
@@ -273,8 +274,9 @@ class ScenarioResult:
     climate: WaveClimate
     columns: dict[str, np.ndarray]
     hotspots: list[Hotspot]
-    closure_depth_m: float
+    closure_depth_m: np.ndarray
     info: dict[str, Any] = field(default_factory=dict)
+    trapping: Trapping | None = None
 
 
 @dataclass
@@ -287,6 +289,7 @@ class RunResult:
     scenarios: list[ScenarioResult]
     timings_s: dict[str, float]
     warnings: list[str]
+    structures: Structures | None = None
 
 
 def load_climate(study: Study) -> WaveClimate:
@@ -348,6 +351,7 @@ def evaluate(
     closure_depth_m: np.ndarray | None = None,
     point_index: np.ndarray | None = None,
     progress: Callable[[int], None] | None = None,
+    structures: Structures | None = None,
 ) -> ScenarioResult:
     """Run the chain for one climate: transport, gradient, rate, class, hotspots.
 
@@ -397,6 +401,11 @@ def evaluate(
     hs_mean, hs_12h = (v[point_index] for v in wave_statistics(climate))
     q = red.q_net_m3_per_yr[m["primary"]]
     dqdx = alongshore_gradient(q, transects.part_id, transects.spacing_m, transects.part_closed)
+    trapping = None
+    if structures is not None and len(structures):
+        dqdx, trapping = apply_structures(
+            dqdx, red.q_pos_m3_per_yr, red.q_neg_m3_per_yr, structures, transects
+        )
     rate = shoreline_change_rate(dqdx, dc, m["berm_height_m"])
     sheltered = red.sheltered_fraction >= 1.0 - 1e-12
     rate = np.where(sheltered & (dqdx == 0), 0.0, rate)
@@ -464,6 +473,7 @@ def evaluate(
         hotspots=hotspots,
         closure_depth_m=dc,
         info=info,
+        trapping=trapping,
     )
 
 
@@ -612,6 +622,12 @@ def run_study(
     t0 = time.perf_counter()
     coast, transects = load_transects(study)
     sign = chainage_sign(coast, transects)
+    structures = None
+    if study.structures_file is not None:
+        st = study["structures"]
+        structures = read_structures(
+            study.structures_file, coast, transects, bypass=st["bypass"], layer=st["layer"]
+        )
     timings["transects"] = time.perf_counter() - t0
     point_index = nearest_wave_point(climate, transects)
     chunk_steps = chunk_steps or study["waves"]["chunk_steps"] or None
@@ -629,6 +645,7 @@ def run_study(
         chunk_steps,
         point_index=point_index,
         progress=tick,
+        structures=structures,
     )
     timings["baseline"] = time.perf_counter() - t0
     warnings = list(coast.warnings) + list(transects.warnings) + list(climate.warnings)
@@ -647,6 +664,7 @@ def run_study(
             closure_depth_m=baseline.closure_depth_m,
             point_index=point_index,
             progress=tick,
+            structures=structures,
         )
         result.info |= {"scenario": info}
         result.info["versus_baseline"] = compare_with_baseline(
@@ -670,4 +688,5 @@ def run_study(
         scenarios=results,
         timings_s=timings,
         warnings=warnings,
+        structures=structures,
     )

@@ -50,6 +50,10 @@ def _open_unit(v: Any) -> str | None:
     return None if 0 < v < 1 else "a number between 0 and 1 (exclusive)"
 
 
+def _unit_closed(v: Any) -> str | None:
+    return None if 0 <= v <= 1 else "a share between 0 and 1"
+
+
 def _breaker_index(v: Any) -> str | None:
     return None if 0 < v <= 1.5 else "a number in (0, 1.5]"
 
@@ -150,6 +154,13 @@ SCHEMA: dict[str, dict[str, Key]] = {
         "closure_depth_m": Key("float-or-str", 8.0, check=_closure, doc="closure depth"),
         "berm_height_m": Key("float", 2.0, check=_non_negative, doc="berm height"),
     },
+    "structures": {
+        "file": Key("str", doc="lines crossing the shore: groynes, jetties, breakwater roots"),
+        "layer": Key("str", doc="layer name, for files with several layers"),
+        "bypass": Key(
+            "float", 0.0, check=_unit_closed, doc="share of the arriving transport that passes"
+        ),
+    },
     "classify": {
         "stable_band_m_per_yr": Key(
             "float", 0.5, check=_non_negative, doc="|rate| below this is stable"
@@ -237,6 +248,12 @@ class Study:
     def coast_file(self) -> Path:
         """The coast file, as an absolute path."""
         return self.folder / self.settings["coast"]["file"]
+
+    @property
+    def structures_file(self) -> Path | None:
+        """The structures file, as an absolute path, or None."""
+        name = self.settings["structures"]["file"]
+        return None if name is None else self.folder / name
 
     @property
     def wave_file(self) -> Path | None:

@@ -8,8 +8,9 @@ CAUTION = (
     "SCREENING ESTIMATE ONLY. These results come from simplified published formulas "
     "(linear wave theory, CERC and Kamphuis longshore transport, a one-line sediment balance) "
     "and are typically uncertain by a factor of two or more. They are not a design. "
-    "Cross-shore storm erosion, coastal structures, sheltering by land and sediment supply "
-    "(rivers, cliffs, nourishment) are not included unless the study states so. "
+    "Cross-shore storm erosion and sediment supply (rivers, cliffs, nourishment) are not "
+    "included; sheltering by land is a geometric shadow without diffraction, and structures "
+    "are included only as simple barriers where the study gives them. "
     "Confirm with local measurements and defer to the local coastal authority and licensed "
     "coastal engineering practice before any decision on surveys, nourishment or structures."
 )

@@ -11,7 +11,7 @@ true-north azimuth.
 Distances in this module are on the ground (the ellipsoid), not on the projection grid: grid
 lengths are divided by the point scale factor k of the working projection. Azimuths are from
 true north: grid azimuths are corrected by the meridian convergence. Both come from
-:meth:`pyproj.Proj.get_factors`. See ``docs/parts/coast.md`` for the reasoning.
+:meth:`pyproj.Proj.get_factors`. See ``docs/methods.md`` for the reasoning.
 
 Examples
 --------
@@ -437,7 +437,9 @@ def _ids(ids, limit: int = 10) -> str:
     return text
 
 
-def read_coast(path, layer=None, crs=None, sea: str = "right") -> CoastLines:
+def read_coast(
+    path, layer=None, crs=None, sea: str = "right", polygons: str = "land"
+) -> CoastLines:
     """Read a shoreline from a vector GIS file into the working CRS.
 
     Parameters
@@ -450,8 +452,11 @@ def read_coast(path, layer=None, crs=None, sea: str = "right") -> CoastLines:
         CRS of a file that carries none (e.g. a Shapefile without ``.prj``). A file that has
         a CRS must not be given a different one.
     sea : {"left", "right"}
-        Side of the digitised direction of LINES on which the sea lies. Ignored for polygons,
-        which are land with the sea outside.
+        Side of the digitised direction of LINES on which the sea lies. Ignored for polygons.
+    polygons : {"land", "water"}
+        What polygons are: ``"land"`` (the sea is outside them; a hole is a lake or lagoon)
+        or ``"water"`` (lakes, lagoons, estuaries: the water is inside, the shore is their
+        boundary; a hole is an island).
 
     Returns
     -------
@@ -477,6 +482,8 @@ def read_coast(path, layer=None, crs=None, sea: str = "right") -> CoastLines:
     the source CRS (RFC 7946, sec. 3.1.1: a segment is straight in its coordinate space) before
     projection, so every working-grid segment is at most :data:`MAX_SEGMENT_M` long.
     """
+    if polygons not in ("land", "water"):
+        raise ValueError(f"polygons must be 'land' or 'water'; got {polygons!r}")
     if sea not in SEA_SIDES:
         raise ValueError(
             f"sea must be one of {', '.join(repr(s) for s in SEA_SIDES)} (the side of the "
@@ -566,6 +573,8 @@ def read_coast(path, layer=None, crs=None, sea: str = "right") -> CoastLines:
         ccw = shapely.is_ccw(parts[n_lines:])
         # Land is inside an exterior ring and outside a hole; the left of a CCW ring is inside.
         sea_right[n_lines:] = exterior[n_lines:] == ccw
+        if polygons == "water":  # the water is inside the polygons: every ring faces the other way
+            sea_right[n_lines:] = ~sea_right[n_lines:]
 
     keep = np.flatnonzero(usable)
     keep = keep[np.argsort(part_feat[keep], kind="stable")]

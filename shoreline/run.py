@@ -35,7 +35,8 @@ from shoreline.climate import (
     steady,
 )
 from shoreline.coast import CoastLines, Transects, cast_transects, read_coast
-from shoreline.errors import StudyError
+from shoreline.errors import CoastError, StudyError
+from shoreline.exposure import Exposure, compute_exposure
 from shoreline.structures import Structures, Trapping, apply_structures, read_structures
 from shoreline.study import Study
 
@@ -102,6 +103,7 @@ def transport_reductions(
     sediment_density_kg_m3: float,
     porosity: float,
     point_index: np.ndarray | None = None,
+    exposure: Exposure | None = None,
     angle_step_deg: float = 0.5,
     chunk_steps: int | None = None,
     workers: int | None = None,
@@ -169,6 +171,8 @@ def transport_reductions(
             )
         reach = np.isfinite(hb)
         reach &= np.abs(angle) < 90.0
+        if exposure is not None:  # waves from a direction blocked by land are sheltered
+            reach &= exposure.is_open(rows(climate.dir_deg, sl))
         beach_slope = slope if slope is not None else profile.breaker_zone_slope(db, d50_mm)
         out: dict[str, np.ndarray] = {}
         for name in formulas:
@@ -323,9 +327,39 @@ def load_transects(study: Study) -> tuple[CoastLines, Transects]:
                 f"{study.path.name}: [coast] sea is required for a shoreline of lines: "
                 '"left" or "right" of the digitised direction (not needed for land polygons)'
             )
-    coast = read_coast(study.coast_file, layer=c["layer"], crs=c["crs"], sea=sea)
+    coast = read_coast(
+        study.coast_file, layer=c["layer"], crs=c["crs"], sea=sea, polygons=c["polygons"]
+    )
     transects = cast_transects(coast, spacing_m=c["spacing_m"], smoothing_m=c["smoothing_m"])
     return coast, transects
+
+
+def load_land(study: Study, transects: Transects) -> list:
+    """The study's extra land (``[coast] land``) in the working CRS, as shapely geometries.
+
+    Any CRS is accepted and reprojected; a file without a CRS is taken to be in the coast's.
+
+    Raises
+    ------
+    CoastError
+        If the file is missing or unreadable.
+    """
+    name = study["coast"]["land"]
+    if name is None:
+        return []
+    import geopandas as gpd
+
+    path = study.folder / name
+    if not path.exists():
+        raise CoastError(f"{path}: land file ([coast] land) not found")
+    try:
+        frame = gpd.read_file(path, engine="pyogrio")
+    except Exception as exc:  # any reader failure is the user's file to fix
+        raise CoastError(f"{path}: cannot read the land file ({exc})") from None
+    if frame.crs is None:
+        raise CoastError(f"{path.name}: the land file has no CRS; save it with one")
+    geoms = frame.to_crs(transects.working_crs).geometry
+    return [g for g in geoms if g is not None and not g.is_empty]
 
 
 def _only_polygons(path, layer) -> bool:
@@ -352,6 +386,7 @@ def evaluate(
     point_index: np.ndarray | None = None,
     progress: Callable[[int], None] | None = None,
     structures: Structures | None = None,
+    exposure: Exposure | None = None,
 ) -> ScenarioResult:
     """Run the chain for one climate: transport, gradient, rate, class, hotspots.
 
@@ -363,7 +398,9 @@ def evaluate(
     ``point_index`` gives each transect's wave point for a climate of several points.
     """
     n = len(transects)
-    if point_index is None or climate.n_points == 1:
+    if climate.n_points == n and climate.point_lon is None:  # one point per transect
+        point_index = np.arange(n)
+    elif point_index is None or climate.n_points == 1:
         point_index = np.zeros(n, dtype=int)
     m, s, k = study["model"], study["sediment"], study["classify"]
     cerc_k = m["cerc_k"]
@@ -386,6 +423,7 @@ def evaluate(
         porosity=s["porosity"],
         angle_step_deg=m["angle_step_deg"],
         point_index=point_index if climate.n_points > 1 else None,
+        exposure=exposure,
         chunk_steps=chunk_steps,
         progress=progress,
     )
@@ -442,7 +480,11 @@ def evaluate(
         "db_m": red.db_m,
         "alpha_b_deg": red.alpha_b_deg,
     }
-    if climate.n_points > 1:
+    if exposure is not None:
+        columns["exposure_deg"] = exposure.exposure_deg
+        columns["open_from_deg"] = exposure.open_from_deg
+        columns["open_to_deg"] = exposure.open_to_deg
+    if climate.n_points > 1 and climate.point_lon is not None:
         names = climate.point_names
         columns["wave_point"] = (
             np.asarray(names, dtype=object)[point_index].astype(str) if names else point_index
@@ -478,14 +520,16 @@ def evaluate(
 
 
 def scenario_climate(
-    spec: dict[str, Any], study: Study, baseline: WaveClimate
+    spec: dict[str, Any], study: Study, baseline: WaveClimate, exposure: Exposure | None = None
 ) -> tuple[WaveClimate, float | None, dict[str, Any]]:
     """The offshore climate of one ``[[scenario]]``: ``(climate, event_duration_s, info)``.
 
     - a steady storm: its condition for ``duration_h`` (an event), or standing for a year;
     - a storm from the wind: deep-water waves grown by the wind over the fetch and duration
       (CEM 2002 Part II-2, :func:`shoreline.wind.wind_waves`), the waves coming from the wind's
-      direction, for ``duration_h`` (an event);
+      direction, for ``duration_h`` (an event); ``fetch_km = "auto"`` gives every transect its
+      own straight-line fetch over water toward the wind from ``exposure`` (one wave point per
+      transect; wind blowing off the shore makes no waves there);
     - a changed climate: the baseline record (or the scenario's own file) with heights and
       periods scaled and directions rotated; rates per year like the baseline.
     """
@@ -516,6 +560,35 @@ def scenario_climate(
     if kind == "storm":
         depth = baseline.depth_m if spec["depth_m"] is None else _depth(spec["depth_m"])
         hs, tp, direction, limit = spec["hs_m"], spec["tp_s"], spec["dir_deg"], None
+    elif spec["fetch_km"] == "auto":
+        fetch_m = exposure.fetch_toward(np.full(len(exposure), float(spec["wind_dir_deg"])))
+        hm0, tpw, lim = wind.wind_waves(spec["wind_speed_m_s"], fetch_m, duration_s, form="cem")
+        hm0 = np.where(fetch_m > 0, hm0, 0.0)
+        shape = (hm0.size, 1)
+        climate = WaveClimate(
+            hs_m=hm0.reshape(shape),
+            tp_s=np.where(hm0 > 0, tpw, np.nan).reshape(shape),
+            dir_deg=np.full(shape, float(spec["wind_dir_deg"]) % 360.0),
+            duration_s=np.array([duration_s]),
+            depth_m=np.inf,
+            kind="steady",
+            source="wind over the fetch of each transect",
+        )
+        limits, counts = np.unique(np.asarray(lim).astype(str), return_counts=True)
+        info = {
+            "kind": kind,
+            "wind_speed_m_s": spec["wind_speed_m_s"],
+            "wind_dir_deg": spec["wind_dir_deg"],
+            "fetch_km": "auto",
+            "dir_deg": float(spec["wind_dir_deg"]) % 360.0,
+            "hs_m_max": float(np.max(hm0)),
+            "growth_limits": {str(k): int(v) for k, v in zip(limits, counts, strict=True)},
+            "duration_h": spec["duration_h"],
+            "depth_m": "deep",
+            "method": "CEM 2002 Part II-2, Eqs. II-2-36 to II-2-38, deep water, fetch per transect",
+        }
+        columns = {"fetch_km": fetch_m / 1000.0, "hs0_m": hm0, "tp0_s": climate.tp_s[:, 0]}
+        return climate, duration_s, info | {"columns": columns}
     else:
         hm0, tpw, lim = wind.wind_waves(
             spec["wind_speed_m_s"], spec["fetch_km"] * 1000.0, duration_s, form="cem"
@@ -629,9 +702,18 @@ def run_study(
             study.structures_file, coast, transects, bypass=st["bypass"], layer=st["layer"]
         )
     timings["transects"] = time.perf_counter() - t0
+    t0 = time.perf_counter()
+    land = load_land(study, transects) + (list(structures.lines) if structures else [])
+    exposure = compute_exposure(
+        transects,
+        list(coast.parts),
+        land=land or None,
+        max_distance_m=study["coast"]["exposure_distance_m"],
+    )
+    timings["exposure"] = time.perf_counter() - t0
     point_index = nearest_wave_point(climate, transects)
     chunk_steps = chunk_steps or study["waves"]["chunk_steps"] or None
-    specs = [(spec, *scenario_climate(spec, study, climate)) for spec in study.scenarios]
+    specs = [(spec, *scenario_climate(spec, study, climate, exposure)) for spec in study.scenarios]
     total = climate.n_steps + sum(c.n_steps for _, c, _, _ in specs)
     tick = progress(total, len(transects)) if progress is not None else None
     t0 = time.perf_counter()
@@ -646,6 +728,7 @@ def run_study(
         point_index=point_index,
         progress=tick,
         structures=structures,
+        exposure=exposure,
     )
     timings["baseline"] = time.perf_counter() - t0
     warnings = list(coast.warnings) + list(transects.warnings) + list(climate.warnings)
@@ -665,7 +748,9 @@ def run_study(
             point_index=point_index,
             progress=tick,
             structures=structures,
+            exposure=exposure,
         )
+        result.columns |= info.pop("columns", {})
         result.info |= {"scenario": info}
         result.info["versus_baseline"] = compare_with_baseline(
             result, baseline, study["classify"]["stable_band_m_per_yr"]

@@ -104,6 +104,16 @@ SCHEMA: dict[str, dict[str, Key]] = {
             check=_one_of("left", "right"),
             doc="side of the digitised direction the sea is on (lines only)",
         ),
+        "polygons": Key(
+            "str",
+            "land",
+            check=_one_of("land", "water"),
+            doc='polygons are "land" (sea outside) or "water" (lakes: water inside)',
+        ),
+        "land": Key("str", doc="extra land that blocks waves: islands, breakwaters, spits"),
+        "exposure_distance_m": Key(
+            "float", 20000.0, check=_positive, doc="how far from the shore land is looked for"
+        ),
         "spacing_m": Key("float", 100.0, check=_positive, doc="transect spacing on the ground"),
         "smoothing_m": Key(
             "float", 500.0, check=_positive, doc="window over which the orientation is averaged"
@@ -422,11 +432,6 @@ def _validate_scenarios(
             raise StudyError(
                 f"{path.name}: [{label}] a changed climate needs a wave record: the baseline "
                 "([waves] file) or its own file"
-            )
-        if kind == "wind" and values["fetch_km"] == "auto":
-            raise StudyError(
-                f'{path.name}: [{label}] fetch_km = "auto" needs fetch from the coast geometry, '
-                "which this version does not compute yet: give the fetch in km"
             )
         if values["name"] in seen:
             raise StudyError(f"{path.name}: two scenarios are named {values['name']!r}")

@@ -15,9 +15,15 @@ from shoreline.run import run_study
 from shoreline.study import read_study
 
 
-def write_jetty(folder, x_m=0.0, bypass=None, crs="EPSG:4326", name="jetty.gpkg", ident="J1"):
-    """A 300 m line from land (north) across the shore to the sea (south) at x_m."""
-    lon, lat = local_to_lonlat(np.array([x_m, x_m]), np.array([100.0, -200.0]))
+def write_jetty(
+    folder, x_m=0.0, bypass=None, crs="EPSG:4326", name="jetty.gpkg", ident="J1", reach_m=15.0
+):
+    """A line from 100 m inland (north) across the shore to reach_m seaward (south) at x_m.
+
+    The default reach of 15 m is shorter than the 20 m start offset of the exposure rays, so
+    the groyne stops sand without casting a shadow on the breaker zone (see the shadow test).
+    """
+    lon, lat = local_to_lonlat(np.array([x_m, x_m]), np.array([100.0, -reach_m]))
     data = {"name": [ident]}
     if bypass is not None:
         data["bypass"] = [bypass]
@@ -64,6 +70,17 @@ def test_jetty_traps_updrift_and_starves_downdrift(tmp_path):
     loss = np.sum((change * cell * height)[~up])
     assert gain == pytest.approx(trap.trapped_m3_per_yr[0], rel=1e-6)
     assert loss == pytest.approx(-trap.trapped_m3_per_yr[0], rel=1e-6)
+
+
+def test_long_jetty_shelters_its_lee(tmp_path):
+    # A jetty reaching 300 m seaward blocks waves from 200 deg (20 deg west of the normal) for
+    # the shore just east of it: a ray from a start point 20 m seaward at distance x east meets
+    # the jetty if 20 + x / tan(20 deg) < 300, i.e. x < 102 m (plane geometry).
+    write_jetty(tmp_path, reach_m=300.0)
+    cols = run_study(jetty_study(tmp_path, 0.0)).scenarios[0].columns
+    x = cols["chainage_m"] - 5000.0
+    assert np.all(cols["sheltered_fraction"][(x > 0) & (x < 90)] == 1.0)
+    assert np.all(cols["sheltered_fraction"][(x > 120) | (x < 0)] == 0.0)
 
 
 def test_full_bypass_changes_nothing(tmp_path):

@@ -1,0 +1,513 @@
+"""Tests of shoreline/exposure.py: open directions and fetch from geometric rays.
+
+Expected values are plane geometry (a ray against a circle, a line or a chord), written out
+again here, plus pyproj.Geod (geodesics on the WGS 84 ellipsoid) and plain pyproj
+transformations where the projection matters. No expected value is a number produced by
+running shoreline.exposure.
+
+Most tests work in a transverse Mercator centred at 0 N 0 E with scale 1 on its central
+meridian ("PLANE"). Within 10 km of its origin the point scale factor differs from 1 by less
+than x^2 / (2 R^2) = 1.2e-6 and grid north from true north by less than 2e-4 deg (Snyder 1987,
+Map Projections: A Working Manual, USGS PP 1395, ch. 8; from memory), so plane geometry in grid
+metres holds to about 1 cm over 10 km: the tolerances below are set from that and from the
+polygon approximation of each circle (stated where used).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pyproj
+import pytest
+import shapely
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from pyproj.crs import ProjectedCRS
+from pyproj.crs.coordinate_operation import TransverseMercatorConversion
+
+from shoreline.coast import CoastLines, Transects, cast_transects
+from shoreline.errors import CoastError
+from shoreline.exposure import Exposure, _widest_open_sector, compute_exposure
+
+PLANE = ProjectedCRS(
+    conversion=TransverseMercatorConversion(
+        latitude_natural_origin=0.0,
+        longitude_natural_origin=0.0,
+        false_easting=0.0,
+        false_northing=0.0,
+        scale_factor_natural_origin=1.0,
+    ),
+    geodetic_crs=pyproj.CRS.from_epsg(4326),
+)
+OFFSET_M = 20.0  # the default start offset
+GEOD = pyproj.Geod(ellps="WGS84")
+
+
+def transects_at(x, y, normal_deg, crs=PLANE, closed=False) -> Transects:
+    x = np.atleast_1d(np.asarray(x, dtype=float))
+    n = len(x)
+    y = np.broadcast_to(np.asarray(y, dtype=float), (n,))
+    normal = np.broadcast_to(np.asarray(normal_deg, dtype=float), (n,))
+    return Transects(
+        transect_id=np.arange(n),
+        part_id=np.zeros(n, int),
+        chainage_m=np.arange(n) * 100.0,
+        x_m=x,
+        y_m=y,
+        normal_az_deg=normal,
+        spacing_m=np.full(n, 100.0),
+        part_closed=np.full(n, closed),
+        working_crs=crs,
+    )
+
+
+def circle(cx, cy, radius_m, n=3600, ring=False):
+    """Polygon (or closed ring) inscribed in a circle, a vertex at azimuth 0."""
+    az = np.linspace(0.0, 2 * np.pi, n + 1)
+    xy = np.column_stack([cx + radius_m * np.sin(az), cy + radius_m * np.cos(az)])
+    xy[-1] = xy[0]
+    return shapely.LinearRing(xy[:-1]) if ring else shapely.Polygon(xy)
+
+
+def angdiff(a, b):
+    """Signed smallest difference a - b of two azimuths [deg]."""
+    return (np.asarray(a) - np.asarray(b) + 180.0) % 360.0 - 180.0
+
+
+def rays_in_half_circle(normal_deg, step_deg=1.0):
+    """Ray directions k * step within 90 deg (inclusive) of the normal, by counting."""
+    k_lo = math.ceil((normal_deg - 90.0) / step_deg - 1e-12)
+    k_hi = math.floor((normal_deg + 90.0) / step_deg + 1e-12)
+    return (np.arange(k_lo, k_hi + 1) * step_deg) % 360.0
+
+
+def ray_disc(sx, sy, az_deg, cx, cy, radius_m):
+    """Plane geometry: (distance to the first crossing of a circle, miss distance) of rays.
+
+    The ray from S along azimuth az meets the circle of centre C where t = p - sqrt(R^2 - q^2),
+    p = (C - S).u, q = |(C - S) x u|; it misses when q > R or p < 0 (circle behind).
+    """
+    a = np.radians(az_deg)
+    ux, uy = np.sin(a), np.cos(a)
+    wx, wy = cx - sx, cy - sy
+    p = wx * ux + wy * uy
+    q = np.abs(wx * uy - wy * ux)
+    with np.errstate(invalid="ignore"):
+        t = np.where((q < radius_m) & (p > 0), p - np.sqrt(radius_m**2 - q**2), np.inf)
+    return t, q
+
+
+STRAIGHT = shapely.LineString([(-15000.0, 0.0), (15000.0, 0.0)])  # sea to the south
+
+
+# ---------------------------------------------------------------------------------------------
+# A straight open coast
+# ---------------------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("normal_deg", [180.0, 180.4, 0.0, 203.4])
+def test_straight_open_coast_is_open_over_the_half_circle(normal_deg):
+    # A straight shore through the origin, perpendicular to the normal, 30 km long. Geometry:
+    # a ray within 90 deg of the normal, starting 20 m seaward, never comes back to the shore
+    # line (the two rays at exactly 90 deg run parallel to it, 20 m off); so every such ray is
+    # open. The exposure is then exactly the number of 1-degree rays in the closed half circle
+    # times the step: 180 deg, or 181 deg when the normal falls on a ray (both grazing rays
+    # count). No tolerance is needed: a single blocked grazing ray would fail.
+    tangent = np.radians(normal_deg + 90.0)
+    dx, dy = 15000.0 * np.sin(tangent), 15000.0 * np.cos(tangent)
+    shore = shapely.LineString([(-dx, -dy), (dx, dy)])
+    along = np.linspace(-5000.0, 5000.0, 5)
+    t = transects_at(along * np.sin(tangent), along * np.cos(tangent), normal_deg)
+    e = compute_exposure(t, [shore])
+    expected = rays_in_half_circle(normal_deg)
+    cast = np.isin(e.directions_deg, expected)
+    assert e.open.shape == (5, 360) and e.fetch_m.shape == (5, 360)
+    np.testing.assert_array_equal(e.open, np.broadcast_to(cast, (5, 360)))
+    np.testing.assert_array_equal(e.exposure_deg, len(expected) * 1.0)
+    assert len(expected) in (180, 181)
+    # Fetch = max distance where open, 0 landward (by definition).
+    np.testing.assert_array_equal(e.fetch_m, np.where(cast, 20000.0, 0.0)[None, :].repeat(5, 0))
+    assert e.max_distance_m == 20000.0 and e.start_offset_m == OFFSET_M
+
+
+def test_noisy_straight_coast_from_cast_transects_is_open():
+    # The same geometry digitised with +-2 m noise every 10 m, normals from shoreline.coast:
+    # wiggles smaller than the 20 m start offset cannot reach a ray that heads seaward (or runs
+    # parallel) from 18-22 m off the mean line, so every cast ray is open (geometric fact).
+    rng = np.random.default_rng(7)
+    x = np.arange(-15000.0, 15000.0 + 1.0, 10.0)
+    shore = shapely.LineString(np.column_stack([x, rng.uniform(-2.0, 2.0, x.size)]))
+    coast = CoastLines([shore], np.array([False]), np.array([0]), PLANE, PLANE)
+    t = cast_transects(coast, spacing_m=1000.0, smoothing_m=1000.0)
+    e = compute_exposure(t, coast.parts)
+    for i in range(len(t)):
+        expected = rays_in_half_circle(float(t.normal_az_deg[i]))
+        np.testing.assert_array_equal(e.open[i], np.isin(e.directions_deg, expected))
+        assert e.exposure_deg[i] == len(expected)
+
+
+def test_open_sector_edges_and_wrap_around_north():
+    # Sea to the north (normal 0): rays 270..359 and 0..90 are open, a run through north. The
+    # sector edges lie half a step outside the first and last open rays (documented rule):
+    # 269.5 -> 90.5 deg, width 181 = the exposure. Normal 10.3: rays 281..100, 280.5 -> 100.5.
+    for normal_deg, frm, to in ((0.0, 269.5, 90.5), (10.3, 280.5, 100.5)):
+        tangent = np.radians(normal_deg + 90.0)
+        dx, dy = 15000.0 * np.sin(tangent), 15000.0 * np.cos(tangent)
+        shore = shapely.LineString([(-dx, -dy), (dx, dy)])  # perpendicular to the normal
+        e = compute_exposure(transects_at(0.0, 0.0, normal_deg), [shore])
+        assert e.open_from_deg[0] == pytest.approx(frm, abs=1e-9)
+        assert e.open_to_deg[0] == pytest.approx(to, abs=1e-9)
+        assert (e.open_to_deg[0] - e.open_from_deg[0]) % 360.0 == e.exposure_deg[0]
+    e = compute_exposure(transects_at(0.0, 0.0, 180.0), [STRAIGHT])
+    assert (e.open_from_deg[0], e.open_to_deg[0]) == (89.5, 270.5)
+
+
+def test_widest_open_sector_rule():
+    # Definition checks on hand-made masks (8 rays of 45 deg).
+    masks = np.array(
+        [
+            [1, 1, 1, 1, 1, 1, 1, 1],  # all open: 0 and 360
+            [0, 0, 0, 0, 0, 0, 0, 0],  # none: NaN
+            [1, 1, 0, 1, 1, 1, 0, 1],  # runs 3..5 (3 rays) and 7..1 (3 rays, wraps): first end
+            [1, 0, 0, 0, 0, 0, 1, 1],  # one run through north: rays 6, 7, 0
+            [0, 0, 1, 0, 1, 1, 0, 0],  # the wider of two runs
+        ],
+        dtype=bool,
+    )
+    frm, to = _widest_open_sector(masks, 45.0)
+    np.testing.assert_array_equal(frm[[0, 2, 3, 4]], [0.0, 112.5, 247.5, 157.5])
+    np.testing.assert_array_equal(to[[0, 2, 3, 4]], [360.0, 247.5, 22.5, 247.5])
+    assert np.isnan(frm[1]) and np.isnan(to[1])
+
+
+# ---------------------------------------------------------------------------------------------
+# An island offshore of a straight coast
+# ---------------------------------------------------------------------------------------------
+
+ISLAND_R_M, ISLAND_D_M = 1000.0, 5000.0
+# 3600-gon inscribed in the circle: its edges lie inside the circle by at most
+# R (1 - cos(pi / 3600)) = 0.4 mm; along a ray that crosses the rim at angle psi the error is
+# 0.4 mm / sin(psi): below 2 mm for the rays checked (psi > 12 deg).
+ISLAND = circle(0.0, -ISLAND_D_M, ISLAND_R_M)
+
+
+def test_island_shadow_half_width_and_fetch():
+    # Transect directly behind the island: S = (0, -20), so D' = D - 20 = 4980 m to the centre.
+    # Plane geometry: rays within asin(R / D') = 11.585 deg of 180 deg meet the island, the fetch
+    # along one of them at delta from the centre line is D' cos(delta) - sqrt(R^2 - D'^2 sin^2).
+    t = transects_at([0.0, 12000.0], 0.0, 180.0)
+    e = compute_exposure(t, [STRAIGHT], land=[ISLAND])
+    d_prime = ISLAND_D_M - OFFSET_M
+    half_width = np.degrees(np.arcsin(ISLAND_R_M / d_prime))
+    delta = angdiff(e.directions_deg, 180.0)
+    inside = np.abs(delta) < half_width - 0.01
+    outside = (np.abs(delta) > half_width + 0.01) & (np.abs(delta) <= 90.0)
+    assert inside.sum() == 23  # rays 169..191
+    assert not e.open[0, inside].any()
+    assert e.open[0, outside].all()
+    assert e.exposure_deg[0] == 181.0 - 23.0
+    # Fetch toward the island centre = D' - R (plane geometry); 1 cm covers the polygon (0.4 mm)
+    # and the projection (scale factor 1 on the central meridian).
+    assert e.fetch_toward(180.0)[0] == pytest.approx(d_prime - ISLAND_R_M, abs=0.01)
+    core = np.abs(delta) < half_width - 1.0
+    dr = np.radians(delta[core])
+    expected = d_prime * np.cos(dr) - np.sqrt(ISLAND_R_M**2 - (d_prime * np.sin(dr)) ** 2)
+    np.testing.assert_allclose(e.fetch_m[0, core], expected, atol=0.01)
+    # 12 km along the shore the same directions pass the island: the rays from (12000, -20)
+    # miss the disc by hundreds of metres (plane geometry, checked here), so they are open.
+    _, miss = ray_disc(12000.0, -20.0, e.directions_deg[inside], 0.0, -ISLAND_D_M, ISLAND_R_M)
+    assert miss.min() > ISLAND_R_M + 100.0
+    assert e.open[1, inside].all()
+
+
+def test_island_as_polygon_or_as_coast_ring_blocks_the_same():
+    # The boundary is what blocks a ray from outside: the island as a land polygon and as a
+    # closed coast line (a ring) give the same open directions and fetch.
+    t = transects_at(np.linspace(-3000.0, 3000.0, 7), 0.0, 180.0)
+    a = compute_exposure(t, [STRAIGHT], land=[ISLAND])
+    b = compute_exposure(t, [STRAIGHT, circle(0.0, -ISLAND_D_M, ISLAND_R_M, ring=True)])
+    np.testing.assert_array_equal(a.open, b.open)
+    np.testing.assert_allclose(a.fetch_m, b.fetch_m, atol=1e-6)
+
+
+@settings(max_examples=25, deadline=None)
+@given(
+    cx=st.floats(-6000.0, 6000.0),
+    dist=st.floats(800.0, 14000.0),
+    radius=st.floats(100.0, 1500.0),
+)
+def test_island_shadow_matches_plane_geometry(cx, dist, radius):
+    # Any round island offshore: a ray is blocked exactly when plane geometry says it meets
+    # the disc within 20 km, and its fetch is the distance to that crossing. Rays within 0.05 m
+    # of tangency or of the 20 km end are not judged (the 3600-gon lies up to 0.6 mm inside
+    # the circle); fetch is checked to 2 cm where the ray crosses the rim at > 4.7 deg
+    # (q < R - 5 m): 0.6 mm / sin 4.7 deg = 7 mm, plus the projection (< 1 cm at 14 km).
+    cy = -(radius + max(dist, 250.0))
+    t = transects_at(0.0, 0.0, 180.0)
+    e = compute_exposure(t, [STRAIGHT], land=[circle(cx, cy, radius)])
+    cast = np.abs(angdiff(e.directions_deg, 180.0)) <= 90.0
+    hit_t, q = ray_disc(0.0, -OFFSET_M, e.directions_deg, cx, cy, radius)
+    judged = cast & (np.abs(q - radius) > 0.05) & (np.abs(hit_t - 20000.0) > 0.05)
+    expect_open = cast & ~(hit_t < 20000.0)
+    np.testing.assert_array_equal(e.open[0, judged], expect_open[judged])
+    deep = cast & (q < radius - 5.0) & (hit_t < 20000.0 - 1.0)
+    np.testing.assert_allclose(e.fetch_m[0, deep], hit_t[deep], atol=0.02)
+
+
+# ---------------------------------------------------------------------------------------------
+# A headland, a breakwater, land polygons
+# ---------------------------------------------------------------------------------------------
+
+
+def test_headland_shelters_its_lee():
+    # A straight shore (sea south) with a spit 3 km long running due south from (0, 0). From
+    # the ray start S = (-1000, -20) of a transect 1 km west of it, the spit spans azimuths
+    # from atan2(1000, 20) = 88.85 deg (its root) to atan2(1000, -2980) = 161.45 deg (its tip):
+    # every cast ray from 90 deg up to the tip direction is blocked, every one beyond it open.
+    # Along ray theta the spit (x = 0) is met after 1000 / sin(theta) (plane geometry).
+    spit = shapely.LineString([(0.0, 0.0), (0.0, -3000.0)])
+    t = transects_at([-1000.0, -14000.0], 0.0, 180.0)
+    e = compute_exposure(t, [STRAIGHT, spit])
+    for i, x0 in enumerate((-1000.0, -14000.0)):
+        tip = np.degrees(np.arctan2(-x0, -3000.0 + OFFSET_M))
+        cast = (e.directions_deg >= 90.0) & (e.directions_deg <= 270.0)
+        lee = cast & (e.directions_deg < tip - 0.01)
+        beyond = cast & (e.directions_deg > tip + 0.01)
+        assert lee.any() and not e.open[i, lee].any()
+        assert e.open[i, beyond].all()
+        theta = np.radians(e.directions_deg[lee])
+        np.testing.assert_allclose(e.fetch_m[i, lee], -x0 / np.sin(theta), atol=0.01)
+    # The widest open sector of the near transect runs from the tip to the grazing ray
+    # (edges half a step outside the rays: documented rule).
+    assert e.open_from_deg[0] == pytest.approx(np.ceil(161.45) - 0.5)
+    assert e.open_to_deg[0] == pytest.approx(270.5)
+
+
+def test_breakwater_line_blocks_rays():
+    # A detached breakwater (a line, given as extra land) from (-500, -400) to (500, -400).
+    # From S = (0, -20) its ends lie at azimuths 180 -+ atan2(500, 380) = 127.23 / 232.77 deg;
+    # along ray theta it is met after 380 / |cos(theta)| (plane geometry).
+    breakwater = shapely.LineString([(-500.0, -400.0), (500.0, -400.0)])
+    e = compute_exposure(transects_at(0.0, 0.0, 180.0), [STRAIGHT], land=[breakwater])
+    edge = np.degrees(np.arctan2(500.0, 380.0))
+    delta = np.abs(angdiff(e.directions_deg, 180.0))
+    behind = delta < edge - 0.01
+    assert behind.sum() == 105  # rays 128..232
+    assert not e.open[0, behind].any()
+    assert e.open[0, (delta > edge + 0.01) & (delta <= 90.0)].all()
+    theta = np.radians(e.directions_deg[behind])
+    np.testing.assert_allclose(e.fetch_m[0, behind], 380.0 / np.abs(np.cos(theta)), atol=0.01)
+    # Multi-geometries are taken apart: the same breakwater as a MultiLineString of two halves.
+    halves = shapely.MultiLineString([[(-500.0, -400.0), (0.0, -400.0)], [(0, -400), (500, -400)]])
+    e2 = compute_exposure(transects_at(0.0, 0.0, 180.0), [STRAIGHT], land=[halves, None])
+    np.testing.assert_array_equal(e2.open, e.open)
+
+
+def test_land_beyond_max_distance_does_not_shelter():
+    # The island's near rim is D' - R = 3980 m from the ray start (plane geometry): rays 3 m
+    # longer reach it, rays 3 m shorter do not.
+    t = transects_at(0.0, 0.0, 180.0)
+    near = compute_exposure(t, [STRAIGHT], land=[ISLAND], max_distance_m=3983.0)
+    far = compute_exposure(t, [STRAIGHT], land=[ISLAND], max_distance_m=3977.0)
+    assert not near.is_open(180.0)[0] and far.is_open(180.0)[0]
+    assert far.fetch_toward(180.0)[0] == 3977.0
+
+
+def test_ray_start_inside_land_polygon_is_on_land():
+    # A pier 60 m wide covering the ray start (0, -20): the start is on land, so no direction
+    # is open and the fetch is 0 (definition).
+    pier = shapely.box(-30.0, -200.0, 30.0, 0.0)
+    e = compute_exposure(transects_at([0.0, 5000.0], 0.0, 180.0), [STRAIGHT], land=[pier])
+    assert not e.open[0].any() and e.exposure_deg[0] == 0.0
+    np.testing.assert_array_equal(e.fetch_m[0], 0.0)
+    assert np.isnan(e.open_from_deg[0]) and np.isnan(e.open_to_deg[0])
+    # 5 km along the shore, from S = (5000, -20), the pier's east face (x = 30, y from -200 to
+    # 0) spans azimuths 270 + atan2(-180, 4970) .. 270 + atan2(20, 4970) = 267.93 .. 270.23 deg
+    # (plane geometry): the cast rays 268, 269 and 270 meet it, the other 178 are open. Ray 270
+    # runs along y = -20 and meets the face after 4970 m.
+    lo = 270.0 + np.degrees(np.arctan2(-180.0, 4970.0))
+    assert 267.5 < lo < 268.0
+    assert e.exposure_deg[1] == 181.0 - 3.0
+    assert not e.is_open(np.array([268.0, 269.0, 270.0]), transect_index=1).any()
+    assert e.fetch_toward(270.0)[1] == pytest.approx(4970.0, abs=0.01)
+
+
+# ---------------------------------------------------------------------------------------------
+# A round lake: water inside a circle, normals pointing in
+# ---------------------------------------------------------------------------------------------
+
+
+def test_round_lake_chords():
+    # Shore = a circle of radius R = 2 km; transects on it with the seaward normal toward the
+    # centre. From S at c = R - 20 m from the centre, the ray at delta from the centre line
+    # meets the shore after c cos(delta) + sqrt(R^2 - c^2 sin^2(delta)) (chord geometry): along
+    # the diameter 2R - 20 m. The lake is 4 km across, so no direction reaches 20 km: none is
+    # open. 3600-gon: 0.8 mm inside the circle, up to 6 mm along the grazing rays (they cross
+    # the rim at 8 deg); 2 cm tolerance.
+    radius = 2000.0
+    ring = circle(0.0, 0.0, radius, ring=True)
+    pos = np.array([0.0, 37.0, 90.0, 200.0, 311.5])  # azimuth of each shore point from centre
+    pr = np.radians(pos)
+    t = transects_at(radius * np.sin(pr), radius * np.cos(pr), (pos + 180.0) % 360.0, closed=True)
+    e = compute_exposure(t, [ring])
+    assert not e.open.any()
+    np.testing.assert_array_equal(e.exposure_deg, 0.0)
+    assert np.isnan(e.open_from_deg).all() and np.isnan(e.open_to_deg).all()
+    c = radius - OFFSET_M
+    delta = angdiff(e.directions_deg[None, :], (pos[:, None] + 180.0) % 360.0)
+    cast = np.abs(delta) <= 90.0
+    d = np.radians(delta)
+    chord = c * np.cos(d) + np.sqrt(radius**2 - (c * np.sin(d)) ** 2)
+    np.testing.assert_allclose(e.fetch_m[cast], chord[cast], atol=0.02)
+    np.testing.assert_array_equal(e.fetch_m[~cast], 0.0)
+    assert e.fetch_toward(180.0)[0] == pytest.approx(2 * radius - OFFSET_M, abs=0.01)
+
+
+# ---------------------------------------------------------------------------------------------
+# True north and ground distances in a real UTM zone
+# ---------------------------------------------------------------------------------------------
+
+
+def test_true_north_and_ground_distance_in_utm():
+    # UTM 31N at 45 N, 7.5 E: 4.5 deg east of the central meridian, where grid north is about
+    # dlambda sin(phi) = 3.2 deg from true north and the scale factor about 1.0011 (Snyder 1987,
+    # ch. 8, from memory). A shore point, its normal due south (180 deg TRUE), a shore line
+    # through it perpendicular to the normal on the grid, and an island built with pyproj.Geod:
+    # a geodesic circle of 1 km radius centred 5 km from the ray start at true azimuth 200 deg.
+    # Expected: the rays within asin(1/5) = 11.54 deg of 200 deg are blocked, and the fetch
+    # toward 200 deg is 5000 - 1000 m on the ground. Ignoring the convergence would shift the
+    # shadow by 3.2 deg (three rays at each edge would change); ignoring the scale factor would
+    # put the rim 4.6 m too far, and ignoring its change along the ray (dk/dx = x / R^2 for
+    # UTM, Snyder 1987 ch. 8, from memory; x = 335 km) 6 cm [derived: arithmetic]. Tolerance
+    # 1 cm: the 720-gon has a vertex where the central ray meets it, and a straight grid ray
+    # stays within about kappa L^2 / 2 = 0.1 m of the geodesic over 4 km, which moves a hit on
+    # a 1 km circle met head-on by (0.1 m)^2 / 2R, far below 1 mm.
+    utm = pyproj.CRS.from_epsg(32631)
+    fwd = pyproj.Transformer.from_crs(4326, utm, always_xy=True)
+    lon0, lat0 = 7.5, 45.0
+    x0, y0 = fwd.transform(lon0, lat0)
+    xn, yn = fwd.transform(lon0, lat0 + 1e-5)
+    north_grid = np.degrees(np.arctan2(xn - x0, yn - y0))  # grid azimuth of true north
+    assert north_grid == pytest.approx(-3.18, abs=0.05)
+    tangent = np.radians(90.0 + north_grid)
+    shore = shapely.LineString(
+        [(x0 - 8000 * np.sin(tangent), y0 - 8000 * np.cos(tangent)),
+         (x0 + 8000 * np.sin(tangent), y0 + 8000 * np.cos(tangent))]
+    )  # fmt: skip
+    slon, slat, _ = GEOD.fwd(lon0, lat0, 180.0, OFFSET_M)
+    clon, clat, _ = GEOD.fwd(slon, slat, 200.0, 5000.0)
+    az = np.linspace(0.0, 360.0, 721)[:-1]
+    rlon, rlat, _ = GEOD.fwd(np.full(720, clon), np.full(720, clat), az, np.full(720, 1000.0))
+    island = shapely.Polygon(np.column_stack(fwd.transform(rlon, rlat)))
+    t = transects_at(x0, y0, 180.0, crs=utm)
+    e = compute_exposure(t, [shore], land=[island])
+    half_width = np.degrees(np.arcsin(1000.0 / 5000.0))
+    delta = np.abs(angdiff(e.directions_deg, 200.0))
+    assert not e.open[0, delta < half_width - 0.05].any()
+    cast = np.abs(angdiff(e.directions_deg, 180.0)) <= 90.0
+    assert e.open[0, cast & (delta > half_width + 0.05)].all()
+    assert e.fetch_toward(200.0)[0] == pytest.approx(4000.0, abs=0.01)
+    # The ray reaches max_distance_m on the ground: 3 m short of the rim it is open, 3 m
+    # beyond it blocked (a grid length without the scale factor would fall 4.6 m short).
+    assert compute_exposure(t, [shore], [island], max_distance_m=3997.0).is_open(200.0)[0]
+    assert not compute_exposure(t, [shore], [island], max_distance_m=4003.0).is_open(200.0)[0]
+
+
+# ---------------------------------------------------------------------------------------------
+# Lookups, shapes, undefined normals, bad input
+# ---------------------------------------------------------------------------------------------
+
+
+@pytest.fixture(scope="module")
+def breakwater_exposure() -> Exposure:
+    # Transects 0 and 1 behind the breakwater of test_breakwater_line_blocks_rays (shadow
+    # 127.23..232.77 deg from (0, -20)), transect 2 with an undefined normal.
+    breakwater = shapely.LineString([(-500.0, -400.0), (500.0, -400.0)])
+    t = transects_at([0.0, 0.0, 3000.0], 0.0, [180.0, 180.0, np.nan])
+    return compute_exposure(t, [STRAIGHT], land=[breakwater])
+
+
+def test_lookup_shapes_and_nearest_ray(breakwater_exposure):
+    e = breakwater_exposure
+    assert e.is_open(100.0).shape == (3,)
+    np.testing.assert_array_equal(e.is_open(100.0), [True, True, False])
+    np.testing.assert_array_equal(e.is_open(np.array([100.0, 180.0, 100.0])), [True, False, False])
+    dirs = np.array([[100.0, 180.0, 0.0, np.nan]])  # (1, t): same directions for all transects
+    got = e.is_open(dirs)
+    assert got.shape == (3, 4) and got.dtype == bool
+    np.testing.assert_array_equal(got[0], [True, False, False, False])  # 0 deg: land; NaN: False
+    np.testing.assert_array_equal(e.is_open(np.repeat(dirs, 3, axis=0)), got)  # (n, t)
+    # Nearest ray: 127.4 deg is in the shadow but its nearest ray (127) is not; 127.6 -> 128.
+    assert e.is_open(127.4)[0] and not e.is_open(127.6)[0]
+    assert e.is_open(-232.6)[0] and e.is_open(487.0)[0]  # wraps: 127.4 and 127 deg
+    # Explicit transect index, broadcasting with the directions.
+    np.testing.assert_array_equal(
+        e.is_open([100.0, 180.0, 100.0], transect_index=[0, 1, 2]), [True, False, False]
+    )
+    f = e.fetch_toward(dirs)
+    assert f.shape == (3, 4)
+    assert f[0, 0] == 20000.0 and f[0, 2] == 0.0 and np.isnan(f[0, 3])
+    assert f[0, 1] == pytest.approx(380.0, abs=0.01)
+    assert e.fetch_toward(180.0, transect_index=np.array([[1]])).shape == (1, 1)
+    with pytest.raises(ValueError, match="does not broadcast"):
+        e.is_open(np.zeros((2, 5)))
+    with pytest.raises(ValueError, match="integers"):
+        e.is_open(0.0, transect_index=[0.5])
+
+
+def test_undefined_normal_gives_nan(breakwater_exposure):
+    e = breakwater_exposure
+    assert not e.open[2].any()
+    assert np.isnan(e.fetch_m[2]).all() and np.isnan(e.exposure_deg[2])
+    assert np.isnan(e.open_from_deg[2]) and np.isnan(e.open_to_deg[2])
+    assert not e.open.flags.writeable and not e.fetch_m.flags.writeable
+
+
+def test_other_steps_and_empty_input():
+    e = compute_exposure(transects_at(0.0, 0.0, 180.0), [STRAIGHT], step_deg=5.0)
+    np.testing.assert_array_equal(e.directions_deg, np.arange(72) * 5.0)
+    assert e.exposure_deg[0] == 37 * 5.0  # rays 90, 95, ..., 270
+    assert (e.open_from_deg[0], e.open_to_deg[0]) == (87.5, 272.5)
+    empty = compute_exposure(transects_at([], 0.0, 180.0), [STRAIGHT])
+    assert empty.open.shape == (0, 360) and len(empty) == 0
+    none = compute_exposure(transects_at(0.0, 0.0, 180.0), [])
+    assert none.exposure_deg[0] == 181.0
+
+
+@pytest.mark.parametrize(
+    ("kwargs", "match"),
+    [
+        ({"step_deg": 7.0}, "divide 360"),
+        ({"step_deg": 0.0}, "step_deg"),
+        ({"start_offset_m": 0.0}, "start_offset_m"),
+        ({"max_distance_m": -5.0}, "max_distance_m"),
+        ({"max_distance_m": np.nan}, "max_distance_m"),
+    ],
+)
+def test_bad_options(kwargs, match):
+    with pytest.raises(ValueError, match=match):
+        compute_exposure(transects_at(0.0, 0.0, 180.0), [STRAIGHT], **kwargs)
+
+
+def test_bad_land_geometry():
+    t = transects_at(0.0, 0.0, 180.0)
+    with pytest.raises(CoastError, match=r"land\[1\] is a Point"):
+        compute_exposure(t, [STRAIGHT], land=[ISLAND, shapely.Point(0, -300)])
+    with pytest.raises(CoastError, match="not a shapely geometry"):
+        compute_exposure(t, [STRAIGHT], land=[[(0, 0), (1, 1)]])
+
+
+def test_chunking_does_not_change_the_answer(monkeypatch):
+    # Chunks of transects (and the halving of a chunk that meets too many segments) only bound
+    # memory: tiny chunks give the same result as one chunk (an invariant of the method).
+    import shoreline.exposure as exposure_module
+
+    spit = shapely.LineString([(0.0, 0.0), (0.0, -3000.0)])
+    t = transects_at(np.linspace(-9000.0, 9000.0, 37), 0.0, 180.0)
+    whole = compute_exposure(t, [STRAIGHT, spit], land=[ISLAND])
+    monkeypatch.setattr(exposure_module, "_CHUNK", 5)
+    monkeypatch.setattr(exposure_module, "_MAX_PAIRS", 40)
+    split = compute_exposure(t, [STRAIGHT, spit], land=[ISLAND])
+    np.testing.assert_array_equal(split.open, whole.open)
+    np.testing.assert_array_equal(split.fetch_m, whole.fetch_m)

@@ -161,5 +161,5 @@ def test_transects_command(tmp_path, capsys):
     path = setup(tmp_path, study_text())
     assert main(["transects", str(path), "--out", str(tmp_path / "chk")]) == 0
     frame = gpd.read_file(tmp_path / "chk" / "transects.geojson")
-    assert len(frame) == 51  # 5 km at 100 m: both ends included (see docs/parts/coast.md)
+    assert len(frame) == 51  # 5 km at 100 m: both ends included (see docs/methods.md)
     assert np.allclose(frame["normal_az_deg"], 180.0, atol=1.0)

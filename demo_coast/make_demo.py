@@ -70,6 +70,27 @@ def write_coast(path: Path) -> None:
     path.write_text(json.dumps(data) + "\n", encoding="utf-8")
 
 
+def write_structures(path: Path) -> None:
+    """One invented jetty on the Seffery Strand, 250 m seaward of the shore (GeoJSON, WGS 84)."""
+    x, y = coast_xy()
+    i = int(np.argmin(np.abs(np.arange(x.size) * 20.0 - 12500.0)))  # 12.5 km along the trend
+    seaward = np.radians(210.0)
+    xs = x[i] + np.array([-100.0, 250.0]) * np.sin(seaward)
+    ys = y[i] + np.array([-100.0, 250.0]) * np.cos(seaward)
+    lon, lat = to_lonlat(xs, ys)
+    feature = {
+        "type": "Feature",
+        "properties": {"name": "Seffery jetty (INVENTED)", "bypass": 0.2},
+        "geometry": {
+            "type": "LineString",
+            "coordinates": [[round(a, 7), round(b, 7)] for a, b in zip(lon, lat, strict=True)],
+        },
+    }
+    path.write_text(
+        json.dumps({"type": "FeatureCollection", "features": [feature]}) + "\n", encoding="utf-8"
+    )
+
+
 def wave_record(hours: int = 8760, seed: int = SEED) -> dict[str, np.ndarray]:
     """An invented hourly offshore record for the year 2031 (seeded, reproducible).
 
@@ -127,4 +148,5 @@ def write_waves(path: Path) -> None:
 if __name__ == "__main__":
     write_coast(HERE / "coast.geojson")
     write_waves(HERE / "waves.csv")
-    print(f"wrote {HERE / 'coast.geojson'} and {HERE / 'waves.csv'} (invented demo data)")
+    write_structures(HERE / "structures.geojson")
+    print(f"wrote coast.geojson, waves.csv and structures.geojson in {HERE} (invented demo data)")

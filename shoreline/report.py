@@ -70,14 +70,20 @@ _METHOD_PARAGRAPHS = (
     "the depth, H<sub>b</sub> = \u03b3 d<sub>b</sub> (CEM Part II-1 and II-4, Eq. II-4-12). "
     "The explicit breaking formula of Larson, Hoan &amp; Hanson (2010) is available as an "
     "option. Waves from more than 90\u00b0 off the seaward normal come from land: they move "
-    "no sand and the transect counts as sheltered for that time step. Storm scenarios given "
-    "by a wind grow their deep-water waves over the fetch and duration (CEM Part II-2).",
+    "no sand and the transect counts as sheltered for that time step; so do waves from a "
+    "direction in which a straight ray from the breaker zone meets land (the coast itself, "
+    "islands and breakwaters of the study, structures): a geometric shadow, without "
+    "diffraction. Storm scenarios given by a wind grow their deep-water waves over the fetch "
+    "and duration (CEM Part II-2); with an automatic fetch every transect gets its own fetch "
+    "over water toward the wind.",
     "<strong>Longshore transport.</strong> The CERC formula, I<sub>l</sub> = K P<sub>l</sub> "
     "(CEM 2002 Part III-2, Eq. III-2-7; K = 0.39 with significant height, SPM 1984, or K from "
     "the grain size after del Valle, Medina &amp; Losada 1993), and the formula of Kamphuis "
     "(1991), which also uses wave period, beach slope and grain size. Transport is positive "
     "toward increasing chainage; the net, gross and one-way rates are averaged over the wave "
-    "record.",
+    "record, each time step weighted by the time it stands for. Where the study gives "
+    "structures across the shore, the transport passing each is its bypass share of what "
+    "arrives, and the rest is trapped updrift (sand is conserved).",
     "<strong>Beach profile.</strong> The beach slope and the closure depth are taken from the "
     "study or estimated: the slope from the equilibrium profile h = A y<sup>2/3</sup> "
     "(Dean 1977) with A from the grain size (Moore 1982), the closure depth from the wave "

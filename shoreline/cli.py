@@ -39,10 +39,7 @@ def build_parser() -> argparse.ArgumentParser:
         help="run a study: transects, waves to breaking, transport, rates, hotspots, outputs",
         description="Run a study file and write its GIS layers, tables, figures and report.",
     )
-    run.add_argument("study", type=Path, help="the study file (TOML)")
-    run.add_argument(
-        "--out", type=Path, default=None, help="output folder (default: 'out' beside the study)"
-    )
+    _study_arguments(run)
     run.add_argument(
         "--no-figures", action="store_true", help="skip figures and report (large batch runs)"
     )
@@ -59,10 +56,7 @@ def build_parser() -> argparse.ArgumentParser:
         help="write only the transects, to check the geometry in a GIS before a run",
         description="Cast the transects of a study and write them (GeoJSON and GeoPackage).",
     )
-    tr.add_argument("study", type=Path, help="the study file (TOML)")
-    tr.add_argument(
-        "--out", type=Path, default=None, help="output folder (default: 'out' beside the study)"
-    )
+    _study_arguments(tr)
     rep = sub.add_parser(
         "report",
         help="rebuild the figures and report of an existing output folder without recomputing",
@@ -70,6 +64,13 @@ def build_parser() -> argparse.ArgumentParser:
     )
     rep.add_argument("folder", type=Path, help="an output folder written by 'shoreline run'")
     return parser
+
+
+def _study_arguments(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("study", type=Path, help="the study file (TOML)")
+    parser.add_argument(
+        "--out", type=Path, default=None, help="output folder (default: 'out' beside the study)"
+    )
 
 
 def _default_out(study_path: Path, out: Path | None) -> Path:

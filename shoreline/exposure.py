@@ -42,7 +42,7 @@ from dataclasses import dataclass
 import numpy as np
 import shapely
 
-from shoreline.coast import Transects, _scale_and_north
+from shoreline.coast import Transects, _frozen_array, _scale_and_north
 from shoreline.errors import CoastError
 
 __all__ = ["SEGMENT_M", "Exposure", "compute_exposure"]
@@ -73,12 +73,6 @@ _EDGE_DEG = 1e-9
 _POLYGON_TYPES = (3, 6)  # Polygon, MultiPolygon
 _LINE_TYPES = (1, 2, 5)  # LineString, LinearRing, MultiLineString
 _COLLECTION_TYPE = 7
-
-
-def _frozen(values, dtype) -> np.ndarray:
-    arr = np.array(values, dtype=dtype)
-    arr.setflags(write=False)
-    return arr
 
 
 @dataclass(frozen=True, eq=False)
@@ -124,10 +118,10 @@ class Exposure:
     start_offset_m: float
 
     def __post_init__(self):
-        object.__setattr__(self, "directions_deg", _frozen(self.directions_deg, float))
-        object.__setattr__(self, "open", _frozen(self.open, bool))
+        object.__setattr__(self, "directions_deg", _frozen_array(self.directions_deg, float))
+        object.__setattr__(self, "open", _frozen_array(self.open, bool))
         for name in ("fetch_m", "exposure_deg", "open_from_deg", "open_to_deg"):
-            object.__setattr__(self, name, _frozen(getattr(self, name), float))
+            object.__setattr__(self, name, _frozen_array(getattr(self, name), float))
         n, m = len(self.exposure_deg), len(self.directions_deg)
         for name in ("open", "fetch_m"):
             if getattr(self, name).shape != (n, m):

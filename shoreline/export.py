@@ -464,7 +464,13 @@ def write_run(
         for scenario in result.scenarios:
             written = write_scenario(tmp / scenario.name, result, scenario)
             names.extend(out_dir / p.relative_to(tmp) for p in written)
-        write_json(tmp / "run.json", run_record(result, command, started_utc))
+        record = run_record(result, command, started_utc)
+        # the numbers of each scenario, fingerprinted: a re-run with the same inputs and
+        # settings gives the same fingerprints (the table holds no times or paths)
+        record["results_sha256"] = {
+            s.name: sha256_of(tmp / s.name / "transects.csv") for s in result.scenarios
+        }
+        write_json(tmp / "run.json", record)
         names.append(out_dir / "run.json")
         if extra is not None:
             extra(tmp)

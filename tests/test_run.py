@@ -256,3 +256,15 @@ def test_failed_run_leaves_earlier_output(tmp_path):
     assert main(["run", str(study), "--out", str(out), "--no-figures"]) != 0
     after = {p: p.read_bytes() for p in out.rglob("*") if p.is_file()}
     assert before == after
+
+
+def test_rerun_gives_the_same_numbers_and_the_record_shows_it(tmp_path):
+    write_coast(tmp_path, *straight())
+    study = write_study(tmp_path, "coast.geojson", STEADY)
+    records = []
+    for name in ("a", "b"):
+        assert main(["run", str(study), "--out", str(tmp_path / name), "--no-figures"]) == 0
+        records.append(json.loads((tmp_path / name / "run.json").read_text()))
+    assert records[0]["results_sha256"] == records[1]["results_sha256"]
+    assert records[0]["inputs"] == records[1]["inputs"]
+    assert records[0]["settings"] == records[1]["settings"]

@@ -163,3 +163,18 @@ def test_transects_command(tmp_path, capsys):
     frame = gpd.read_file(tmp_path / "chk" / "transects.geojson")
     assert len(frame) == 51  # 5 km at 100 m: both ends included (see docs/methods.md)
     assert np.allclose(frame["normal_az_deg"], 180.0, atol=1.0)
+
+
+def test_no_figures_then_report_rebuilds_without_recomputing(tmp_path, capsys):
+    path = setup(tmp_path, study_text())
+    out = tmp_path / "out"
+    assert main(["run", str(path), "--out", str(out), "--no-figures", "--quiet"]) == 0
+    assert not (out / "report.html").exists() and not (out / "baseline" / "map.png").exists()
+    before = (out / "baseline" / "transects.csv").read_bytes()
+    assert main(["report", str(out)]) == 0
+    assert (out / "report.html").exists() and (out / "baseline" / "map.png").exists()
+    assert (out / "baseline" / "transects.csv").read_bytes() == before
+    capsys.readouterr()
+    assert main(["report", str(tmp_path / "nowhere")]) != 0
+    err = capsys.readouterr().err
+    assert "run.json" in err and len(err.strip().splitlines()) == 1

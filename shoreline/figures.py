@@ -159,6 +159,20 @@ def read_scenario(scenario_dir: str | os.PathLike) -> ScenarioData:
     return ScenarioData(folder, name, summary, shoreline, transects, hotspots)
 
 
+def _read_structures(folder: Path) -> list:
+    """The structure lines of a scenario's GeoPackage (working CRS), or [] if it has none."""
+    import geopandas as gpd
+    import pyogrio
+
+    gpkg = Path(folder) / "results.gpkg"
+    try:
+        if "structures" not in {str(n) for n in pyogrio.list_layers(gpkg)[:, 0]}:
+            return []
+        return [g for g in gpd.read_file(gpkg, layer="structures").geometry if g is not None]
+    except Exception:  # the map is still useful without them; read_scenario reports bad files
+        return []
+
+
 def read_wave_climate(scenario_dir: str | os.PathLike):
     """Read ``wave_climate.csv`` (joint histogram of offshore Hs and direction) of a scenario.
 
@@ -618,6 +632,10 @@ def _map_figure(data: ScenarioData):
         )
     for xy in shore_lines:
         ax.plot(xy[:, 0], xy[:, 1], color="black", lw=1.3, zorder=3)
+    structures = _read_structures(data.folder)
+    for g in structures:
+        for xy in _line_xy(g):
+            ax.plot(xy[:, 0], xy[:, 1], color="black", lw=3.2, solid_capstyle="butt", zorder=6)
 
     # Sign markers beyond the tick tip: "+" accretion, "-" erosion (outside the stable band),
     # thinned on dense coasts so that each sign stays legible.
@@ -740,9 +758,11 @@ def _map_figure(data: ScenarioData):
             color=_SHELTERED_GREY,
             lw=1.6,
             ls=(0, (1.5, 1.2)),
-            label="sheltered transect (waves from land)",
+            label="sheltered transect (no waves reach it)",
         ),
     ]
+    if structures:
+        handles.append(Line2D([], [], color="black", lw=3.2, label="structure (groyne, jetty)"))
     fig.legend(handles=handles, loc="outside lower center", ncols=3, fontsize=7.5, frameon=False)
     ax.set_title(f"{metric.title} \u2014 scenario \u201c{data.name}\u201d", fontsize=12)
     _footer(fig)

@@ -28,13 +28,13 @@ def coast_xy() -> tuple[np.ndarray, np.ndarray]:
 
     The coast trends toward 120 degrees (east-south-east), so its seaward normal points to
     about 210 degrees, a few degrees east of the dominant swell. From north-west to south-east:
-    a western beach, a low sandy headland (Quillon Head, a cuspate foreland about 100 m
-    seaward of the trend), a bay (Brannock Bay, about 180 m deep) and a long straight beach
+    a western beach, a low sandy headland (Quillon Head, a cuspate foreland about 70 m
+    seaward of the trend), a bay (Brannock Bay, about 130 m deep) and a long straight beach
     (Seffery Strand). Digitised north-west to south-east, so the sea is on the right.
     """
     s = np.arange(0.0, 17000.0 + 1.0, 20.0)  # along the trend
-    n = 100.0 * np.exp(-(((s - 4000.0) / 1800.0) ** 2))  # Quillon Head (seaward)
-    n -= 180.0 * np.exp(-(((s - 8000.0) / 2200.0) ** 2))  # Brannock Bay (landward)
+    n = 70.0 * np.exp(-(((s - 4000.0) / 1800.0) ** 2))  # Quillon Head (seaward)
+    n -= 130.0 * np.exp(-(((s - 8000.0) / 2200.0) ** 2))  # Brannock Bay (landward)
     n += 5.0 * np.sin(s / 900.0)  # gentle irregularity
     trend = np.radians(120.0)
     seaward = np.radians(210.0)
@@ -106,7 +106,7 @@ def wave_record(hours: int = 8760, seed: int = SEED) -> dict[str, np.ndarray]:
     noise = rng.normal(0.0, 0.08, hours)
     for i in range(1, hours):
         anomaly[i] = 0.97 * anomaly[i - 1] + noise[i]
-    hs = 0.75 * season * np.exp(anomaly * 0.9)
+    hs = 0.65 * season * np.exp(anomaly * 0.9)
     tp = 9.5 + 2.0 * anomaly + rng.normal(0.0, 0.6, hours)
     turn = np.zeros(hours)
     noise = rng.normal(0.0, 2.0, hours)

@@ -94,9 +94,9 @@ def write_structures(path: Path) -> None:
 def wave_record(hours: int = 8760, seed: int = SEED) -> dict[str, np.ndarray]:
     """An invented hourly offshore record for the year 2031 (seeded, reproducible).
 
-    Swell from the south-west with a slow random wander, lognormal heights around 1.3 m with a
-    seasonal swing, about ten storms of 3-5.5 m from 215-245 degrees, and short wind sea from
-    the south-east about a fifth of the time.
+    Swell from the south-west with a slow random wander, lognormal heights around 0.65 m with a
+    seasonal swing, ten storms of 2.5-4.5 m from 205-240 degrees, and short wind sea from the
+    south-east about a fifth of the time.
     """
     rng = np.random.default_rng(seed)
     t = np.arange(hours)

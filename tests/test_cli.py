@@ -178,3 +178,9 @@ def test_no_figures_then_report_rebuilds_without_recomputing(tmp_path, capsys):
     assert main(["report", str(tmp_path / "nowhere")]) != 0
     err = capsys.readouterr().err
     assert "run.json" in err and len(err.strip().splitlines()) == 1
+
+
+def test_lines_need_the_sea_side(tmp_path, capsys):
+    path = setup(tmp_path, study_text().replace('sea = "right"\n', ""))
+    code, err = run_cli(capsys, path)
+    assert_one_line(code, err, "sea", "left", "right")

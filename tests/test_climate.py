@@ -253,3 +253,23 @@ def test_scenarios_storm_volume_wind_and_changed_climate(tmp_path):
     for name in ("baseline", "storm", "gale", "rotated"):
         assert (out / name / "transects.geojson").exists()
     assert not (out / "baseline" / "scenario.json").exists()
+
+
+def test_hallermeier_closure_depth_from_the_record(tmp_path):
+    # A year of hourly waves of 1 m with 12 hours of 4 m, 10 s: the height exceeded 12 hours a
+    # year is 4 m with Te = 10 s, so Hallermeier (1981) gives dc = 2.28 He - 68.5 He^2/(g Te^2)
+    # = 8.00 m [derived in REFERENCES.md from Hallermeier 1981, Coastal Engineering 4].
+    times = np.datetime64("2031-01-01T00:00") + np.arange(8766).astype("timedelta64[h]")
+    hs = np.full(times.size, 1.0)
+    tp = np.full(times.size, 8.0)
+    hs[1000:1012] = 4.0
+    tp[1000:1012] = 10.0
+    (tmp_path / "w.csv").write_text(record_rows(hs, tp, np.full(times.size, 200), times))
+    write_coast(tmp_path, *curved())
+    study = write_study(tmp_path, "coast.geojson", 'file = "w.csv"')
+    study.write_text(
+        study.read_text().replace("closure_depth_m = 8.0", 'closure_depth_m = "hallermeier"')
+    )
+    scen = run_study(read_study(study)).scenarios[0]
+    assert scen.info["he_m"] == [4.0] and scen.info["te_s"] == [10.0]
+    np.testing.assert_allclose(scen.columns["closure_depth_m"], 8.00, atol=0.005)

@@ -143,13 +143,17 @@ def transport_reductions(
     def rows(values: np.ndarray, sl: slice) -> np.ndarray:
         return values[point_index][:, sl] if multi else values[sl][None, :]
 
+    # transects grouped by wave point (each group shares its offshore conditions)
+    groups = [np.flatnonzero(point_index == p) for p in np.unique(point_index)] if multi else []
+
     def chunk(start: int) -> dict[str, np.ndarray]:
         sl = slice(start, start + steps)
         hs, tp = rows(climate.hs_m, sl), rows(climate.tp_s, sl)
         w = climate.duration_s[sl]
         angle = wrap_deg(rows(climate.dir_deg, sl) - normal)
         angle *= sgn
-        if multi or angle_step_deg <= 0:
+        if angle_step_deg <= 0 or (multi and 4 * len(groups) > n):
+            # direct: nodes pay only where many transects share one wave point
             hb, db, ab, broken = waves.breaking(
                 hs,
                 tp,
@@ -159,7 +163,7 @@ def transport_reductions(
                 method=breaking_method,
                 full_output=True,
             )
-        else:
+        elif not multi:
             hb, db, ab, broken = waves.breaking_on_angle_nodes(
                 hs[0],
                 tp[0],
@@ -169,6 +173,22 @@ def transport_reductions(
                 step_deg=angle_step_deg,
                 method=breaking_method,
             )
+        else:  # several wave points: solve the transects of each point on its own nodes
+            hb, db, ab = (np.empty(angle.shape) for _ in range(3))
+            broken = np.empty(angle.shape, dtype=bool)
+            for rows_p in groups:
+                first = rows_p[0]
+                out = waves.breaking_on_angle_nodes(
+                    hs[first],
+                    tp[first],
+                    angle[rows_p],
+                    depth_m=float(depth[first, 0] if depth.ndim == 2 else depth),
+                    breaker_index=breaker_index,
+                    step_deg=angle_step_deg,
+                    method=breaking_method,
+                )
+                for target, values in zip((hb, db, ab, broken), out, strict=True):
+                    target[rows_p] = values
         reach = np.isfinite(hb)
         reach &= np.abs(angle) < 90.0
         if exposure is not None:  # waves from a direction blocked by land are sheltered

@@ -204,6 +204,8 @@ def summary_text(result, out: Path) -> str:
 
 def _waves_text(scenario) -> str:
     c = scenario.climate
+    if c.kind == "steady" and c.n_points > 1:  # wind over each transect's own fetch
+        return f"wind waves per transect, Hs up to {np.nanmax(c.hs_m):.1f} m"
     if c.kind == "steady":
         text = f"Hs {c.hs_m[0]:.1f} m, Tp {c.tp_s[0]:.1f} s, from {c.dir_deg[0]:.0f} deg"
         limit = scenario.info.get("scenario", {}).get("growth_limit")

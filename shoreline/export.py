@@ -340,7 +340,14 @@ def scenario_summary(result: RunResult, scenario: ScenarioResult) -> dict[str, A
     for h in scenario.hotspots:
         counts[h.klass] += 1
     waves_info: dict[str, Any] = {"kind": c.kind, "hours": c.total_hours, "source": c.source}
-    if c.kind == "steady":
+    if c.kind == "steady" and c.n_points > 1:  # wind waves over each transect's own fetch
+        waves_info |= {
+            "hs_m": float(np.nanmax(c.hs_m)),
+            "tp_s": float(np.nanmax(c.tp_s)),
+            "dir_deg": float(c.dir_deg.reshape(-1)[0]),
+            "per_transect": True,
+        }
+    elif c.kind == "steady":
         waves_info |= {"hs_m": c.hs_m[0], "tp_s": c.tp_s[0], "dir_deg": c.dir_deg[0]}
     else:
         waves_info |= {

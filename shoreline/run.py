@@ -768,7 +768,9 @@ def run_study(
             point_index=point_index,
             progress=tick,
             structures=structures,
-            exposure=exposure,
+            # waves grown over each transect's own fetch already stop at the land upwind: the
+            # open-sea test of the exposure rays (which a lake shore never passes) is not theirs
+            exposure=None if spec.get("fetch_km") == "auto" else exposure,
         )
         result.columns |= info.pop("columns", {})
         result.info |= {"scenario": info}
@@ -777,6 +779,12 @@ def run_study(
         )
         results.append(result)
         timings[f"scenario:{spec['name']}"] = time.perf_counter() - t0
+    if np.all(baseline.columns["class"] == "sheltered"):
+        warnings.append(
+            "no baseline wave reaches any transect (waves from land, or land in the way within "
+            "exposure_distance_m); on a lake or lagoon give the waves by wind scenarios with "
+            'fetch_km = "auto"'
+        )
     for result in results:
         broken = result.columns["broken_at_input_fraction"]
         if np.any(broken > 0):

@@ -125,3 +125,8 @@ duration_h = 12.0
     assert cols["tp0_s"][east] == pytest.approx(float(tp), rel=1e-9)
     assert cols["fetch_km"][west] == 0.0 and cols["hs0_m"][west] == 0.0
     assert cols["q_cerc_m3_per_yr"][west] == 0.0
+    # the waves grown inside the lake move sand on the downwind shores where they arrive
+    # obliquely (north-east and south-east of the lake: normals 20-60 deg off the wind)
+    oblique = (np.abs(off) > 20.0) & (np.abs(off) < 60.0)
+    assert oblique.sum() > 10
+    assert np.all(np.abs(cols["q_cerc_m3_per_yr"][oblique]) > 0)

@@ -71,6 +71,7 @@ def test_coast_with_no_features(tmp_path, capsys):
     assert_one_line(*run_cli(capsys, path), "empty.gpkg")
 
 
+@pytest.mark.filterwarnings("ignore:'crs' was not provided")  # writing the test file itself
 def test_no_crs(tmp_path, capsys):
     # a Shapefile written without its .prj carries no CRS
     gpd.GeoDataFrame(geometry=[GOOD_COAST]).to_file(tmp_path / "c.shp")

@@ -434,6 +434,40 @@ def _hotspot_table(data: ScenarioData) -> str:
     )
 
 
+def _structure_table(data: ScenarioData) -> str:
+    """What each structure of the study traps in this scenario ('' where there are none)."""
+    import geopandas as gpd
+    import pyogrio
+
+    gpkg = data.folder / "results.gpkg"
+    try:
+        if "structures" not in {str(n) for n in pyogrio.list_layers(gpkg)[:, 0]}:
+            return ""
+        frame = gpd.read_file(gpkg, layer="structures")
+    except Exception:  # read_scenario has already reported a broken GeoPackage
+        return ""
+    head = (
+        "<thead><tr><th>Structure</th><th>Part</th>"
+        '<th class="num">Chainage [km]</th><th class="num">Bypass</th>'
+        '<th class="num">Arriving [m\u00b3/yr]</th><th class="num">Passing [m\u00b3/yr]</th>'
+        '<th class="num">Trapped [m\u00b3/yr]</th></tr></thead>'
+    )
+    rows = [
+        f"<tr><td>{_esc(r.get('structure_id', ''))}</td><td>{_esc(r.get('part_id', ''))}</td>"
+        f'<td class="num">{_num(_km(r.get("chainage_m")), 2)}</td>'
+        f'<td class="num">{_num(r.get("bypass"), 2)}</td>'
+        f'<td class="num">{_num(r.get("q_arriving_m3_per_yr"), 0, True)}</td>'
+        f'<td class="num">{_num(r.get("q_passing_m3_per_yr"), 0, True)}</td>'
+        f'<td class="num">{_num(r.get("trapped_m3_per_yr"), 0, True)}</td></tr>'
+        for _, r in frame.iterrows()
+    ]
+    return (
+        "<h4>Structures</h4><p>Gross transport arriving at each structure, the share passing "
+        "it and the rest trapped updrift (one-line balance; sand conserved).</p>"
+        f'<table class="structures">{head}<tbody>{"".join(rows)}</tbody></table>'
+    )
+
+
 def _km(value_m) -> float:
     try:
         return float(value_m) / 1000.0
@@ -588,6 +622,7 @@ def _render_scenario(data: ScenarioData, baseline: ScenarioData | None = None) -
         _key_value_table(rows, "counts"),
         "<h4>Hotspots</h4>",
         _hotspot_table(data),
+        _structure_table(data),
         "<h4>Figures</h4>",
     ]
     for name in _FIGURE_ORDER:

@@ -119,6 +119,9 @@ def test_structures_layer_written(tmp_path):
     ):
         assert key in props
     assert "structures" in set(gpd.list_layers(out / "baseline" / "results.gpkg")["name"])
+    assert main(["report", str(out)]) == 0
+    html = (out / "report.html").read_text(encoding="utf-8")
+    assert '<table class="structures">' in html and "J1" in html
 
 
 def test_structure_not_crossing_the_shore_is_named(tmp_path, capsys):

@@ -159,18 +159,21 @@ def read_scenario(scenario_dir: str | os.PathLike) -> ScenarioData:
     return ScenarioData(folder, name, summary, shoreline, transects, hotspots)
 
 
-def _read_structures(folder: Path) -> list:
-    """The structure lines of a scenario's GeoPackage (working CRS), or [] if it has none."""
+def read_structures(folder: str | os.PathLike):
+    """The "structures" layer of a scenario's GeoPackage (working CRS), or None if it has none.
+
+    A missing or unreadable GeoPackage also gives None: :func:`read_scenario` reports those.
+    """
     import geopandas as gpd
     import pyogrio
 
     gpkg = Path(folder) / "results.gpkg"
     try:
         if "structures" not in {str(n) for n in pyogrio.list_layers(gpkg)[:, 0]}:
-            return []
-        return [g for g in gpd.read_file(gpkg, layer="structures").geometry if g is not None]
-    except Exception:  # the map is still useful without them; read_scenario reports bad files
-        return []
+            return None
+        return gpd.read_file(gpkg, layer="structures")
+    except Exception:  # the figures and report are still useful without them
+        return None
 
 
 def read_wave_climate(scenario_dir: str | os.PathLike):
@@ -632,7 +635,8 @@ def _map_figure(data: ScenarioData):
         )
     for xy in shore_lines:
         ax.plot(xy[:, 0], xy[:, 1], color="black", lw=1.3, zorder=3)
-    structures = _read_structures(data.folder)
+    frame = read_structures(data.folder)
+    structures = [] if frame is None else [g for g in frame.geometry if g is not None]
     for g in structures:
         for xy in _line_xy(g):
             ax.plot(xy[:, 0], xy[:, 1], color="black", lw=3.2, solid_capstyle="butt", zorder=6)

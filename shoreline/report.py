@@ -29,6 +29,7 @@ from shoreline.figures import (
     hotspot_label,
     read_json,
     read_scenario,
+    read_structures,
     scenario_metric,
     write_figures,
 )
@@ -436,15 +437,8 @@ def _hotspot_table(data: ScenarioData) -> str:
 
 def _structure_table(data: ScenarioData) -> str:
     """What each structure of the study traps in this scenario ('' where there are none)."""
-    import geopandas as gpd
-    import pyogrio
-
-    gpkg = data.folder / "results.gpkg"
-    try:
-        if "structures" not in {str(n) for n in pyogrio.list_layers(gpkg)[:, 0]}:
-            return ""
-        frame = gpd.read_file(gpkg, layer="structures")
-    except Exception:  # read_scenario has already reported a broken GeoPackage
+    frame = read_structures(data.folder)
+    if frame is None:
         return ""
     head = (
         "<thead><tr><th>Structure</th><th>Part</th>"

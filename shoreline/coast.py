@@ -1060,3 +1060,31 @@ class _ChainedParts:
         mx = np.where(wide, mean[:, 0] + origin[:, 0], px)
         my = np.where(wide, mean[:, 1] + origin[:, 1], py)
         return mx, my
+
+
+def chainage_positions(coast: CoastLines, transects: Transects, part: int):
+    """Grid distance along a part's geometry and ground chainage of its transects.
+
+    Returns ``(grid_m, ground_m)``, both increasing along the part: the pairs that map ground
+    chainage to distance along the working-CRS line and back (see :func:`interp_extrapolate`).
+    """
+    sel = transects.part_id == part
+    points = shapely.points(transects.x_m[sel], transects.y_m[sel])
+    return shapely.line_locate_point(coast.parts[part], points), transects.chainage_m[sel]
+
+
+def interp_extrapolate(x, xp: np.ndarray, fp: np.ndarray) -> np.ndarray:
+    """Piecewise-linear ``fp(xp)`` at ``x``, extended linearly beyond the ends.
+
+    Examples
+    --------
+    >>> interp_extrapolate([-1.0, 0.5, 3.0], np.array([0.0, 1.0, 2.0]), np.array([0.0, 2.0, 4.0]))
+    array([-2.,  1.,  6.])
+    """
+    x = np.asarray(x, dtype=float)
+    if xp.size < 2:
+        return x - (xp[0] if xp.size else 0.0) + (fp[0] if fp.size else 0.0)
+    slope = (fp[-1] - fp[0]) / (xp[-1] - xp[0]) if xp[-1] > xp[0] else 1.0
+    inside = np.interp(x, xp, fp)
+    outside = fp[0] + (x - xp[0]) * slope
+    return np.where((x < xp[0]) | (x > xp[-1]), outside, inside)

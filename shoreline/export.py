@@ -28,7 +28,7 @@ from shapely.ops import substring
 from shoreline import __version__
 from shoreline.cautions import CAUTION
 from shoreline.climate import joint_histogram
-from shoreline.coast import CoastLines, Transects
+from shoreline.coast import CoastLines, Transects, chainage_positions, interp_extrapolate
 from shoreline.errors import OutputError
 from shoreline.run import RunResult, ScenarioResult
 
@@ -144,23 +144,9 @@ def write_geojson(path: Path, frame: gpd.GeoDataFrame, members: dict[str, Any]) 
 
 def chainage_to_grid(transects: Transects, coast: CoastLines, part: int) -> Callable:
     """A function mapping ground chainage on a part to grid distance along its geometry."""
-    line = coast.parts[part]
-    sel = transects.part_id == part
-    pts = shapely.points(transects.x_m[sel], transects.y_m[sel])
-    grid = shapely.line_locate_point(line, pts)
-    ground = transects.chainage_m[sel]
-    if ground.size < 2:
-        return lambda s: np.asarray(s, dtype=float)
-    ratio = (grid[-1] - grid[0]) / (ground[-1] - ground[0]) if ground[-1] > ground[0] else 1.0
-
-    def to_grid(s: np.ndarray) -> np.ndarray:
-        s = np.asarray(s, dtype=float)
-        inside = np.interp(s, ground, grid)
-        outside = grid[0] + (s - ground[0]) * ratio
-        mask = (s < ground[0]) | (s > ground[-1])
-        return np.clip(np.where(mask, outside, inside), 0.0, line.length)
-
-    return to_grid
+    grid, ground = chainage_positions(coast, transects, part)
+    length = coast.parts[part].length
+    return lambda s: np.clip(interp_extrapolate(s, ground, grid), 0.0, length)
 
 
 def hotspot_geometry(

@@ -31,7 +31,7 @@ from pathlib import Path
 import numpy as np
 import shapely
 
-from shoreline.coast import CoastLines, Transects
+from shoreline.coast import CoastLines, Transects, chainage_positions, interp_extrapolate
 from shoreline.errors import CoastError
 
 
@@ -153,18 +153,9 @@ def _crossing(geom, parts: np.ndarray, hits: np.ndarray) -> tuple[int, shapely.P
 
 def _ground_chainage(transects: Transects, coast: CoastLines, part: int, point) -> float:
     """Ground chainage of a point on a part, from the transects' grid and ground positions."""
-    sel = transects.part_id == part
-    line = coast.parts[part]
-    grid = shapely.line_locate_point(line, shapely.points(transects.x_m[sel], transects.y_m[sel]))
-    ground = transects.chainage_m[sel]
-    at = float(shapely.line_locate_point(line, point))
-    if ground.size < 2:
-        return float(ground[0]) if ground.size else at
-    return (
-        float(np.interp(at, grid, ground, left=np.nan, right=np.nan))
-        if (grid[0] <= at <= grid[-1])
-        else float(ground[0] + (at - grid[0]) * (ground[-1] - ground[0]) / (grid[-1] - grid[0]))
-    )
+    grid, ground = chainage_positions(coast, transects, part)
+    at = shapely.line_locate_point(coast.parts[part], point)
+    return float(interp_extrapolate(at, grid, ground))
 
 
 def _face(transects: Transects, part: int, chainage: float) -> int:

@@ -7,7 +7,7 @@ Run from the project root:
 
 The coast is invented (seeded): a wiggly shore about 500 km long in UTM 31N with bays and
 headlands on scales from 400 m to 40 km, vertices every 25 m of easting (--vertex-m), sea to
-the south, and three islands 3-10 km offshore. Transects are cast along it with shoreline.coast
+the south, and three islands 3-10 km offshore. Transects are laid out along it with shoreline.coast
 at the spacing that gives the requested count. The target is 5,000 transects x 1-degree rays x
 20 km in under 30 s on a 2-core machine.
 """
@@ -20,7 +20,7 @@ import numpy as np
 import pyproj
 import shapely
 
-from shoreline.coast import CoastLines, cast_transects
+from shoreline.coast import CoastLines, lay_out_transects
 from shoreline.exposure import compute_exposure
 
 UTM31N = pyproj.CRS.from_epsg(32631)
@@ -70,7 +70,7 @@ def main() -> None:
     )
     spacing_m = shore.length / args.n
     t0 = time.perf_counter()
-    transects = cast_transects(coast, spacing_m=spacing_m, smoothing_m=1000.0)
+    transects = lay_out_transects(coast, spacing_m=spacing_m, orientation_window_m=1000.0)
     t_cast = time.perf_counter() - t0
 
     best = np.inf
@@ -88,7 +88,7 @@ def main() -> None:
     print(f"python {platform.python_version()}, {versions}, {platform.machine()}")
     print(
         f"coast: {shore.length / 1000:.1f} km of shore, {len(shore.coords)} vertices, "
-        f"{len(islands)} islands; transects cast in {t_cast:.2f} s"
+        f"{len(islands)} islands; transects laid out in {t_cast:.2f} s"
     )
     print(
         f"{n} transects x {m} directions ({int(cast.sum())} rays cast, "

@@ -63,7 +63,7 @@ def write_study(folder: Path, record: str) -> Path:
     path = folder / f"study-{record}.toml"
     path.write_text(
         f'[coast]\nfile = "coast.geojson"\nsea = "right"\nspacing_m = 100.0\n'
-        f'smoothing_m = 1000.0\n\n[waves]\nfile = "{record}"\n'
+        f'orientation_window_m = 1000.0\n\n[waves]\nfile = "{record}"\n'
     )
     return path
 

@@ -22,7 +22,7 @@ def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="shoreline",
         description=(
-            "Screening estimates of longshore sand transport and shoreline change: casts "
+            "Screening estimates of longshore sand transport and shoreline change: lays out "
             "shore-normal transects on a coast file, carries offshore waves to breaking, "
             "computes longshore transport (CERC, Kamphuis) and flags erosion and accretion "
             "hotspots."
@@ -54,7 +54,7 @@ def build_parser() -> argparse.ArgumentParser:
     tr = sub.add_parser(
         "transects",
         help="write only the transects, to check the geometry in a GIS before a run",
-        description="Cast the transects of a study and write them (GeoJSON and GeoPackage).",
+        description="Lay out the transects of a study and write them (GeoJSON and GeoPackage).",
     )
     _study_arguments(tr)
     rep = sub.add_parser(
@@ -82,9 +82,9 @@ def _figures_and_report(folder: Path) -> None:
     from shoreline.figures import write_figures
     from shoreline.report import write_report
 
-    baseline = folder / "baseline"
+    reference = folder / "reference"
     for scenario in sorted(p for p in folder.iterdir() if (p / "summary.json").exists()):
-        write_figures(scenario, baseline_dir=None if scenario == baseline else baseline)
+        write_figures(scenario, reference_dir=None if scenario == reference else reference)
     write_report(folder)
 
 
@@ -172,11 +172,11 @@ def summary_text(result, out: Path) -> str:
             )
         n_e = sum(h.klass == "erosion" for h in scenario.hotspots)
         n_a = sum(h.klass == "accretion" for h in scenario.hotspots)
-        vs = scenario.info.get("versus_baseline", {})
+        vs = scenario.info.get("versus_reference", {})
         change = "-"
         if vs and not vs.get("event"):
             change = (
-                f"{len(vs['created'])} new, {len(vs['removed_baseline'])} gone, "
+                f"{len(vs['created'])} new, {len(vs['removed_reference'])} gone, "
                 f"{len(vs['worsened'])} worse"
             )
         elif vs:
@@ -186,7 +186,7 @@ def summary_text(result, out: Path) -> str:
     if len(rows) > 1:
         lines.append("")
         lines.append("scenarios side by side:")
-        header = ("scenario", "offshore waves", "hotspots", "strongest erosion", "vs baseline")
+        header = ("scenario", "offshore waves", "hotspots", "strongest erosion", "vs reference")
         widths = [max(len(r[i]) for r in [header, *rows]) for i in range(5)]
         for r in [header, *rows]:
             lines.append("  " + "  ".join(c.ljust(w) for c, w in zip(r, widths, strict=True)))
@@ -223,7 +223,7 @@ def _cmd_transects(args: argparse.Namespace) -> int:
     coast, transects = load_transects(study)
     out = _default_out(args.study, args.out)
     c = study["coast"]
-    settings = {k: c[k] for k in ("file", "spacing_m", "smoothing_m", "transect_length_m")}
+    settings = {k: c[k] for k in ("file", "spacing_m", "orientation_window_m", "transect_length_m")}
     paths = write_transects_only(coast, transects, c["transect_length_m"], out, settings)
     print(f"{len(transects)} transects on {len(coast.parts)} shore part(s)")
     for w in coast.warnings:

@@ -5,7 +5,7 @@ GeoPackage, GeoJSON, FlatGeobuf, ... Lines are shores with the sea on a stated s
 digitised direction; land polygons have the sea outside the land, so every ring (exterior and
 holes) is a closed shore. The geometry is reprojected into a local conformal metric working CRS
 (the UTM zone of the data, or a transverse Mercator centred on it) and shore-normal transects are
-cast at a fixed ground spacing, each with its ground chainage and its seaward normal as a
+laid out at a fixed ground spacing, each with its ground chainage and its seaward normal as a
 true-north azimuth.
 
 Distances in this module are on the ground (the ellipsoid), not on the projection grid: grid
@@ -20,7 +20,7 @@ Examples
 >>> shore = shapely.LineString([(500000.0, 5000000.0), (510000.0, 5000000.0)])
 >>> coast = CoastLines(parts=[shore], closed=np.array([False]), source_feature=np.array([0]),
 ...                    working_crs=utm31n, source_crs=utm31n, warnings=[])
->>> t = cast_transects(coast, spacing_m=1000.0, smoothing_m=500.0)
+>>> t = lay_out_transects(coast, spacing_m=1000.0, orientation_window_m=500.0)
 >>> len(t)  # 10,000 m of grid is 10,004 m on the ground (k = 0.9996): 11 transects
 11
 >>> float(t.spacing_m[0]), round(float(t.chainage_m[0]), 1), round(float(t.normal_az_deg[0]), 1)
@@ -54,7 +54,7 @@ __all__ = [
     "SEA_SIDES",
     "CoastLines",
     "Transects",
-    "cast_transects",
+    "lay_out_transects",
     "read_coast",
     "working_crs_for",
 ]
@@ -147,7 +147,7 @@ class CoastLines:
 
 @dataclass(frozen=True, eq=False)
 class Transects:
-    """Shore-normal transects cast along a coast by :func:`cast_transects`.
+    """Shore-normal transects cast along a coast by :func:`lay_out_transects`.
 
     One entry per transect in every array.
 
@@ -833,8 +833,10 @@ def _positive(value, what: str) -> float:
     return v
 
 
-def cast_transects(coast: CoastLines, spacing_m: float, smoothing_m: float) -> Transects:
-    """Cast shore-normal transects at a fixed ground spacing along every shore part.
+def lay_out_transects(
+    coast: CoastLines, spacing_m: float, orientation_window_m: float
+) -> Transects:
+    """Lay out shore-normal transects at a fixed ground spacing along every shore part.
 
     Parameters
     ----------
@@ -842,7 +844,7 @@ def cast_transects(coast: CoastLines, spacing_m: float, smoothing_m: float) -> T
         Shores in the working CRS, from :func:`read_coast`.
     spacing_m : float
         Ground distance between neighbouring transects [m].
-    smoothing_m : float
+    orientation_window_m : float
         Ground length of the window over which the shore orientation is averaged [m].
 
     Returns
@@ -855,7 +857,7 @@ def cast_transects(coast: CoastLines, spacing_m: float, smoothing_m: float) -> T
     CoastError
         No part is long enough for transects at this spacing.
     ValueError
-        ``spacing_m`` or ``smoothing_m`` is not a positive length.
+        ``spacing_m`` or ``orientation_window_m`` is not a positive length.
 
     Notes
     -----
@@ -870,7 +872,7 @@ def cast_transects(coast: CoastLines, spacing_m: float, smoothing_m: float) -> T
     skipped).
 
     Orientation: the vector mean of the unit tangent t over the window ``[c - h, c + h]``
-    (``h = smoothing_m / 2``), weighted by ground length with triangular weights
+    (``h = orientation_window_m / 2``), weighted by ground length with triangular weights
     ``K(u) = (h - |u|) / h^2``, is, integrating by parts (``t = dP/ds``),
 
     ``T(c) = integral K(s - c) t(s) ds = (mean P over [c, c + h] - mean P over [c - h, c]) / h``
@@ -878,8 +880,8 @@ def cast_transects(coast: CoastLines, spacing_m: float, smoothing_m: float) -> T
     i.e. the direction from the centroid of the shore behind to the centroid of the shore
     ahead. The centroids are exact integrals of the piecewise-linear shore, so ``T`` does not
     depend on the vertex density, and each averages half a window of digitising noise. On an
-    open part the window is slid inward near the ends so it always covers ``smoothing_m`` of
-    shore (the whole part if shorter): within h of an end the normal is that at h from the end.
+    open part the window is slid inward near the ends so it always covers
+    ``orientation_window_m`` of shore (the whole part if shorter): within h of an end the normal is that at h from the end.
     On a ring the window wraps and is capped at half the ring. The seaward normal is ``T``
     turned 90 degrees toward the sea; its grid azimuth is converted to a true azimuth with the
     meridian convergence at the window centre (see :func:`_scale_and_north`).
@@ -890,7 +892,7 @@ def cast_transects(coast: CoastLines, spacing_m: float, smoothing_m: float) -> T
     (scale factor and convergence of the transverse Mercator, ch. 8).
     """
     spacing = _positive(spacing_m, "spacing_m")
-    window = _positive(smoothing_m, "smoothing_m")
+    window = _positive(orientation_window_m, "orientation_window_m")
     crs = coast.working_crs
     n_parts = len(coast.parts)
     notes: list[str] = []
@@ -949,8 +951,9 @@ def cast_transects(coast: CoastLines, spacing_m: float, smoothing_m: float) -> T
     capped = np.flatnonzero(closed & (count > 0) & (window > length / 2.0))
     if len(capped):
         notes.append(
-            f"smoothing window capped at half the ring length on {len(capped)} closed parts "
-            f"(parts {_ids(capped)}): smoothing_m = {window:g} m is longer than half of them"
+            f"orientation window capped at half the ring length on {len(capped)} closed parts "
+            f"(parts {_ids(capped)}): orientation_window_m = {window:g} m is longer than half "
+            "of them"
         )
     shore = _ChainedParts(xy, vidx, g, start, end, length)
     px, py = shore.point(part, chain)

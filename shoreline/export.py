@@ -69,7 +69,7 @@ def key_settings(result: RunResult) -> dict[str, Any]:
         "berm_height_m": st["model"]["berm_height_m"],
         "d50_mm": st["sediment"]["d50_mm"],
         "spacing_m": st["coast"]["spacing_m"],
-        "smoothing_m": st["coast"]["smoothing_m"],
+        "orientation_window_m": st["coast"]["orientation_window_m"],
         "stable_band_m_per_yr": st["classify"]["stable_band_m_per_yr"],
         "units": "SI; q positive toward increasing chainage; rate positive = accretion",
     }
@@ -301,7 +301,7 @@ def scenario_record(scenario: ScenarioResult) -> dict[str, Any]:
         "name": scenario.name,
         **scenario.info["scenario"],
         "closure_depth_m": float(np.mean(scenario.closure_depth_m)),
-        "versus_baseline": scenario.info.get("versus_baseline", {}),
+        "versus_reference": scenario.info.get("versus_reference", {}),
         "caution": CAUTION,
     }
 

@@ -1,4 +1,4 @@
-"""Figures of one scenario folder: map, along-shore profiles, wave rose, comparison with baseline.
+"""Figures of one scenario folder: map, along-shore profiles, wave rose, comparison with reference.
 
 Everything here works only from the files a run leaves in a scenario folder (``results.gpkg``,
 ``summary.json``, ``wave_climate.csv``), so figures can be redrawn later without recomputing.
@@ -117,7 +117,7 @@ def read_scenario(scenario_dir: str | os.PathLike) -> ScenarioData:
     Parameters
     ----------
     scenario_dir : str or path-like
-        A scenario folder written by ``shoreline run`` (e.g. ``OUT/baseline``).
+        A scenario folder written by ``shoreline run`` (e.g. ``OUT/reference``).
 
     Returns
     -------
@@ -351,7 +351,7 @@ def part_layout(shoreline, transects, gap_fraction: float = 0.04) -> dict[int, t
 
 def write_figures(
     scenario_dir: str | os.PathLike,
-    baseline_dir: str | os.PathLike | None = None,
+    reference_dir: str | os.PathLike | None = None,
     dpi: int = 150,
 ) -> list[Path]:
     """Draw the figures of one scenario folder into that folder.
@@ -360,8 +360,8 @@ def write_figures(
     ----------
     scenario_dir : str or path-like
         The scenario folder (``results.gpkg``, ``summary.json``, ``wave_climate.csv``).
-    baseline_dir : str or path-like, optional
-        The baseline scenario folder; when given (and not the same folder), ``vs_baseline.png``
+    reference_dir : str or path-like, optional
+        The reference scenario folder; when given (and not the same folder), ``vs_reference.png``
         is drawn too.
     dpi : int
         Resolution of the PNG files [dots per inch].
@@ -370,7 +370,7 @@ def write_figures(
     -------
     list of pathlib.Path
         The files written: ``map.png``, ``alongshore.png``, ``wave_climate.png`` and, with a
-        baseline, ``vs_baseline.png``. Each is written atomically (temporary file, then rename).
+        reference, ``vs_reference.png``. Each is written atomically (temporary file, then rename).
 
     Raises
     ------
@@ -385,9 +385,9 @@ def write_figures(
         _save(_alongshore_figure(data), folder / "alongshore.png", dpi),
         _save(_wave_rose_figure(data, waves), folder / "wave_climate.png", dpi),
     ]
-    if baseline_dir is not None and Path(baseline_dir).resolve() != folder.resolve():
-        base = read_scenario(baseline_dir)
-        written.append(_save(_vs_baseline_figure(data, base), folder / "vs_baseline.png", dpi))
+    if reference_dir is not None and Path(reference_dir).resolve() != folder.resolve():
+        base = read_scenario(reference_dir)
+        written.append(_save(_vs_reference_figure(data, base), folder / "vs_reference.png", dpi))
     return written
 
 
@@ -1223,16 +1223,16 @@ def _max_n_locator(nbins: int):
     return MaxNLocator(nbins=nbins)
 
 
-def _vs_baseline_figure(data: ScenarioData, base: ScenarioData):
+def _vs_reference_figure(data: ScenarioData, base: ScenarioData):
     layout = part_layout(data.shoreline, data.transects)
     metric, base_metric = scenario_metric(data), scenario_metric(base)
-    base_label = "baseline" if base.name == "baseline" else f"baseline \u201c{base.name}\u201d"
+    base_label = "reference" if base.name == "reference" else f"reference \u201c{base.name}\u201d"
     same = metric.column == base_metric.column
     fig = _new_figure(9.0, 4.6 if same else 7.0)
     if same:
         axes = [fig.add_subplot()]
         ax_base = ax_scen = axes[0]
-    else:  # a storm's shift [m] and the baseline's rate [m/yr] do not share an axis
+    else:  # a storm's shift [m] and the reference's rate [m/yr] do not share an axis
         axes = list(fig.subplots(2, 1, sharex=True))
         ax_base, ax_scen = axes
     handles = _shade_band_and_hotspots(ax_scen, data, layout)
@@ -1272,7 +1272,7 @@ def _vs_baseline_figure(data: ScenarioData, base: ScenarioData):
         handles=lines + handles, loc="outside lower center", ncols=3, fontsize=7.5, frameon=False
     )
     _part_axis(axes, layout)
-    what = "against the baseline" if same else "with the baseline\u2019s yearly rate above"
+    what = "against the reference" if same else "with the reference\u2019s yearly rate above"
     fig.suptitle(f"{metric.title} \u2014 scenario \u201c{data.name}\u201d {what}", fontsize=11)
     _footer(fig)
     return fig

@@ -126,15 +126,15 @@ FIGURE_CAPTIONS = {
         "waves from near it reach the shore square on; waves from more than 90\u00b0 off the "
         "local normal come from land."
     ),
-    "vs_baseline.png": (
-        "Comparison with the baseline. Shoreline change rate of this scenario (solid black) "
-        "and of the baseline (dashed blue) along the shore; the scenario\u2019s hotspots are "
+    "vs_reference.png": (
+        "Comparison with the reference. Shoreline change rate of this scenario (solid black) "
+        "and of the reference (dashed blue) along the shore; the scenario\u2019s hotspots are "
         "shaded. For a storm event, whose shift in metres does not share an axis with a rate "
-        "per year, the baseline\u2019s rate is drawn in its own panel above."
+        "per year, the reference\u2019s rate is drawn in its own panel above."
     ),
 }
 
-_FIGURE_ORDER = ("map.png", "alongshore.png", "wave_climate.png", "vs_baseline.png")
+_FIGURE_ORDER = ("map.png", "alongshore.png", "wave_climate.png", "vs_reference.png")
 
 _CLASS_ORDER = ("erosion", "accretion", "stable", "sheltered")
 
@@ -209,7 +209,7 @@ def write_report(out_dir: str | os.PathLike, *, draw_figures: bool = False) -> P
     -----
     Sections: title with run date and tool version and the caution; the study (input files
     with SHA-256, the settings used); the method in brief with references; results per
-    scenario (baseline first: counts, hotspot table, figures); warnings; the caution again.
+    scenario (reference first: counts, hotspot table, figures); warnings; the caution again.
     """
     out = Path(out_dir)
     if not out.is_dir():
@@ -217,9 +217,9 @@ def write_report(out_dir: str | os.PathLike, *, draw_figures: bool = False) -> P
     run = read_json(out / "run.json")
     folders, missing = _scenario_folders(out, run)
     if draw_figures:
-        base = next((f for f in folders if f.name == "baseline"), None)
+        base = next((f for f in folders if f.name == "reference"), None)
         for folder in folders:
-            write_figures(folder, baseline_dir=base if folder != base else None)
+            write_figures(folder, reference_dir=base if folder != base else None)
     scenarios = [read_scenario(folder) for folder in folders]
     text = _render(run, scenarios, missing)
     return _write_atomic(out / "report.html", text)
@@ -231,10 +231,10 @@ def write_report(out_dir: str | os.PathLike, *, draw_figures: bool = False) -> P
 
 
 def _scenario_folders(out: Path, run: dict) -> tuple[list[Path], list[str]]:
-    """Return the scenario folders (baseline first, then run.json order) and listed-but-absent."""
+    """Return the scenario folders (reference first, then run.json order) and listed-but-absent."""
     found = {p.name: p for p in out.iterdir() if p.is_dir() and (p / "summary.json").is_file()}
     listed = [str(s) for s in run.get("scenarios", []) if isinstance(s, str | int | float)]
-    order = ["baseline"] + listed + sorted(found)
+    order = ["reference"] + listed + sorted(found)
     folders, seen = [], set()
     for name in order:
         if name in found and name not in seen:
@@ -477,14 +477,14 @@ def _hotspot_classes(data: ScenarioData | None) -> dict[int, str]:
     return {int(i): str(c) for i, c in zip(ids, classes, strict=True)}
 
 
-def _versus_baseline(data: ScenarioData, baseline: ScenarioData | None) -> str | None:
+def _versus_reference(data: ScenarioData, reference: ScenarioData | None) -> str | None:
     """Return an escaped sentence on the hotspots created, removed, worsened; None if unknown."""
     info = data.summary.get("info") if isinstance(data.summary.get("info"), dict) else {}
-    vs = info.get("versus_baseline")
+    vs = info.get("versus_reference")
     if not isinstance(vs, dict):
         record = data.folder / "scenario.json"
         try:
-            vs = json.loads(record.read_text(encoding="utf-8")).get("versus_baseline")
+            vs = json.loads(record.read_text(encoding="utf-8")).get("versus_reference")
         except (OSError, ValueError, AttributeError):
             vs = None
     if not isinstance(vs, dict) or not vs:
@@ -492,9 +492,9 @@ def _versus_baseline(data: ScenarioData, baseline: ScenarioData | None) -> str |
     if vs.get("event"):
         return (
             "A storm event: its hotspots are of shoreline shift over the storm and are listed "
-            "as its own (not matched with the baseline\u2019s hotspots of yearly rate)."
+            "as its own (not matched with the reference\u2019s hotspots of yearly rate)."
         )
-    own, base = _hotspot_classes(data), _hotspot_classes(baseline)
+    own, base = _hotspot_classes(data), _hotspot_classes(reference)
 
     def labels(ids, classes) -> str:
         out = []
@@ -507,7 +507,7 @@ def _versus_baseline(data: ScenarioData, baseline: ScenarioData | None) -> str |
 
     parts = [
         f"new hotspots: {_esc(labels(vs.get('created'), own))}",
-        f"baseline hotspots gone: {_esc(labels(vs.get('removed_baseline'), base))}",
+        f"reference hotspots gone: {_esc(labels(vs.get('removed_reference'), base))}",
     ]
     worse = []
     for w in vs.get("worsened", []) if isinstance(vs.get("worsened"), list) else []:
@@ -515,9 +515,9 @@ def _versus_baseline(data: ScenarioData, baseline: ScenarioData | None) -> str |
             continue
         worse.append(
             f"{_esc(labels([w.get('hotspot_id')], own))} (peak "
-            f"{_num(w.get('peak_rate_m_per_yr'), 2)} m/yr; baseline "
-            f"{_esc(labels([w.get('baseline_hotspot_id')], base))} "
-            f"{_num(w.get('baseline_peak_rate_m_per_yr'), 2)} m/yr)"
+            f"{_num(w.get('peak_rate_m_per_yr'), 2)} m/yr; reference "
+            f"{_esc(labels([w.get('reference_hotspot_id')], base))} "
+            f"{_num(w.get('reference_peak_rate_m_per_yr'), 2)} m/yr)"
         )
     parts.append("worsened: " + (", ".join(worse) if worse else "none"))
     return "; ".join(parts) + "."
@@ -547,7 +547,7 @@ def _plain(value) -> str:
     return _esc(value)
 
 
-def _render_scenario(data: ScenarioData, baseline: ScenarioData | None = None) -> str:
+def _render_scenario(data: ScenarioData, reference: ScenarioData | None = None) -> str:
     s = data.summary
     tr = data.transects
     classes = tr["class"].astype(str).value_counts().to_dict()
@@ -605,9 +605,9 @@ def _render_scenario(data: ScenarioData, baseline: ScenarioData | None = None) -
     if isinstance(spec, dict) and spec:
         text = "; ".join(f"{_esc(k)} {_plain(v)}" for k, v in spec.items())
         rows.append(("Scenario definition", text))
-    versus = _versus_baseline(data, baseline) if data.name != "baseline" else None
+    versus = _versus_reference(data, reference) if data.name != "reference" else None
     if versus:
-        rows.append(("Against the baseline", versus))
+        rows.append(("Against the reference", versus))
     anchor = _anchor(data.name)
     parts = [
         f'<section class="scenario" id="{_esc(anchor)}">',
@@ -621,7 +621,7 @@ def _render_scenario(data: ScenarioData, baseline: ScenarioData | None = None) -
     ]
     for name in _FIGURE_ORDER:
         path = data.folder / name
-        if name == "vs_baseline.png" and not path.is_file():
+        if name == "vs_reference.png" and not path.is_file():
             continue
         if not path.is_file():
             parts.append(
@@ -686,7 +686,7 @@ def _render(run: dict, scenarios: list[ScenarioData], missing: list[str]) -> str
             f'<p class="missing">Scenario {_esc(name)} is listed in run.json but its folder '
             "was not found.</p>"
         )
-    base = next((d for d in scenarios if d.name == "baseline"), None)
+    base = next((d for d in scenarios if d.name == "reference"), None)
     results += [_render_scenario(d, base) for d in scenarios]
     results.append("</section>")
     return "".join(

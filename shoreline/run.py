@@ -34,7 +34,7 @@ from shoreline.climate import (
     read_record,
     steady,
 )
-from shoreline.coast import CoastLines, Transects, cast_transects, read_coast
+from shoreline.coast import CoastLines, Transects, lay_out_transects, read_coast
 from shoreline.errors import CoastError, StudyError
 from shoreline.exposure import Exposure, compute_exposure
 from shoreline.structures import Structures, Trapping, apply_structures, read_structures
@@ -317,7 +317,7 @@ class RunResult:
 
 
 def load_climate(study: Study) -> WaveClimate:
-    """The baseline wave climate of a study: its steady condition or its record file."""
+    """The reference wave climate of a study: its steady condition or its record file."""
     w = study["waves"]
     depth = np.inf if w["depth_m"] == "deep" else float(w["depth_m"])
     if study.wave_file is not None:
@@ -331,7 +331,7 @@ def load_climate(study: Study) -> WaveClimate:
 
 
 def load_transects(study: Study) -> tuple[CoastLines, Transects]:
-    """Read the study's coast and cast its transects.
+    """Read the study's coast and lay out its transects.
 
     Raises
     ------
@@ -350,7 +350,9 @@ def load_transects(study: Study) -> tuple[CoastLines, Transects]:
     coast = read_coast(
         study.coast_file, layer=c["layer"], crs=c["crs"], sea=sea, polygons=c["polygons"]
     )
-    transects = cast_transects(coast, spacing_m=c["spacing_m"], smoothing_m=c["smoothing_m"])
+    transects = lay_out_transects(
+        coast, spacing_m=c["spacing_m"], orientation_window_m=c["orientation_window_m"]
+    )
     return coast, transects
 
 
@@ -414,7 +416,7 @@ def evaluate(
     while the storm lasts; the volume change per metre of shore is ``-dQ/dx * duration``
     (positive = gain), the shoreline shift that volume over the active height, and classes and
     hotspots follow the shift against ``[classify] event_stable_band_m`` instead of the rate.
-    ``closure_depth_m`` (per transect) overrides the study's (scenarios use the baseline's);
+    ``closure_depth_m`` (per transect) overrides the study's (scenarios use the reference's);
     ``point_index`` gives each transect's wave point for a climate of several points.
     """
     n = len(transects)
@@ -540,7 +542,7 @@ def evaluate(
 
 
 def scenario_climate(
-    spec: dict[str, Any], study: Study, baseline: WaveClimate, exposure: Exposure | None = None
+    spec: dict[str, Any], study: Study, reference: WaveClimate, exposure: Exposure | None = None
 ) -> tuple[WaveClimate, float | None, dict[str, Any]]:
     """The offshore climate of one ``[[scenario]]``: ``(climate, event_duration_s, info)``.
 
@@ -550,14 +552,14 @@ def scenario_climate(
       direction, for ``duration_h`` (an event); ``fetch_km = "auto"`` gives every transect its
       own straight-line fetch over water toward the wind from ``exposure`` (one wave point per
       transect; wind blowing off the shore makes no waves there);
-    - a changed climate: the baseline record (or the scenario's own file) with heights and
-      periods scaled and directions rotated; rates per year like the baseline.
+    - a changed climate: the reference record (or the scenario's own file) with heights and
+      periods scaled and directions rotated; rates per year like the reference.
     """
     kind = spec["kind"]
     if kind == "climate":
-        source = baseline
+        source = reference
         if spec["file"] is not None:
-            depth = baseline.depth_m if spec["depth_m"] is None else _depth(spec["depth_m"])
+            depth = reference.depth_m if spec["depth_m"] is None else _depth(spec["depth_m"])
             source = read_record(
                 study.folder / spec["file"],
                 depth_m=depth,
@@ -578,7 +580,7 @@ def scenario_climate(
         return climate, None, info | {"dir_shift_deg": shift}
     duration_s = None if spec["duration_h"] is None else spec["duration_h"] * 3600.0
     if kind == "storm":
-        depth = baseline.depth_m if spec["depth_m"] is None else _depth(spec["depth_m"])
+        depth = reference.depth_m if spec["depth_m"] is None else _depth(spec["depth_m"])
         hs, tp, direction, limit = spec["hs_m"], spec["tp_s"], spec["dir_deg"], None
     elif spec["fetch_km"] == "auto":
         fetch_m = exposure.fetch_toward(np.full(len(exposure), float(spec["wind_dir_deg"])))
@@ -642,16 +644,16 @@ def _depth(value: Any) -> float:
     return np.inf if value == "deep" else float(value)
 
 
-def compare_with_baseline(
-    scenario: ScenarioResult, baseline: ScenarioResult, band: float
+def compare_with_reference(
+    scenario: ScenarioResult, reference: ScenarioResult, band: float
 ) -> dict[str, Any]:
-    """Add changes against the baseline to a scenario; return what its hotspots do.
+    """Add changes against the reference to a scenario; return what its hotspots do.
 
     A changed climate (rates per year) gets ``rate_change_m_per_yr``; a storm event gets
-    ``volume_change_vs_baseline_m3_per_m`` (its volume change less what the baseline climate
+    ``volume_change_vs_reference_m3_per_m`` (its volume change less what the reference climate
     does in the same time). Hotspots of the same class on the same part that overlap along the
-    shore are the same hotspot; a scenario hotspot with no such baseline one is *created*, a
-    baseline one with no such scenario one is *removed*, and an overlapping one whose peak is
+    shore are the same hotspot; a scenario hotspot with no such reference one is *created*, a
+    reference one with no such scenario one is *removed*, and an overlapping one whose peak is
     larger in magnitude by more than 10 % and more than the stable band ``band`` is *worsened*
     (climates only: a storm's hotspots are of shoreline shift,
     not rate, and are listed as the storm's own).
@@ -659,10 +661,10 @@ def compare_with_baseline(
     cols = scenario.columns
     if "shoreline_shift_m" in cols:
         years = scenario.info["event_duration_h"] * 3600.0 / transport.SECONDS_PER_YEAR
-        base = -baseline.columns["dqdx_m2_per_yr"] * years
-        cols["volume_change_vs_baseline_m3_per_m"] = cols["volume_change_m3_per_m"] - base
+        base = -reference.columns["dqdx_m2_per_yr"] * years
+        cols["volume_change_vs_reference_m3_per_m"] = cols["volume_change_m3_per_m"] - base
         return {"event": True, "hotspots": [h.hotspot_id for h in scenario.hotspots]}
-    cols["rate_change_m_per_yr"] = cols["rate_m_per_yr"] - baseline.columns["rate_m_per_yr"]
+    cols["rate_change_m_per_yr"] = cols["rate_m_per_yr"] - reference.columns["rate_m_per_yr"]
 
     def overlaps(a: Hotspot, b: Hotspot) -> bool:
         return (
@@ -671,12 +673,12 @@ def compare_with_baseline(
             and bool(np.intersect1d(a.members, b.members).size)
         )
 
-    created = [h for h in scenario.hotspots if not any(overlaps(h, b) for b in baseline.hotspots)]
-    removed = [b for b in baseline.hotspots if not any(overlaps(h, b) for h in scenario.hotspots)]
+    created = [h for h in scenario.hotspots if not any(overlaps(h, b) for b in reference.hotspots)]
+    removed = [b for b in reference.hotspots if not any(overlaps(h, b) for h in scenario.hotspots)]
     worsened = [
         (h, b)
         for h in scenario.hotspots
-        for b in baseline.hotspots
+        for b in reference.hotspots
         if overlaps(h, b)
         and abs(h.peak_rate_m_per_yr) - abs(b.peak_rate_m_per_yr)
         > max(band, 0.1 * abs(b.peak_rate_m_per_yr))
@@ -684,13 +686,13 @@ def compare_with_baseline(
     return {
         "event": False,
         "created": [h.hotspot_id for h in created],
-        "removed_baseline": [b.hotspot_id for b in removed],
+        "removed_reference": [b.hotspot_id for b in removed],
         "worsened": [
             {
                 "hotspot_id": h.hotspot_id,
-                "baseline_hotspot_id": b.hotspot_id,
+                "reference_hotspot_id": b.hotspot_id,
                 "peak_rate_m_per_yr": h.peak_rate_m_per_yr,
-                "baseline_peak_rate_m_per_yr": b.peak_rate_m_per_yr,
+                "reference_peak_rate_m_per_yr": b.peak_rate_m_per_yr,
             }
             for h, b in worsened
         ],
@@ -737,8 +739,8 @@ def run_study(
     total = climate.n_steps + sum(c.n_steps for _, c, _, _ in specs)
     tick = progress(total, len(transects)) if progress is not None else None
     t0 = time.perf_counter()
-    baseline = evaluate(
-        "baseline",
+    reference = evaluate(
+        "reference",
         study,
         coast,
         transects,
@@ -750,9 +752,9 @@ def run_study(
         structures=structures,
         exposure=exposure,
     )
-    timings["baseline"] = time.perf_counter() - t0
+    timings["reference"] = time.perf_counter() - t0
     warnings = list(coast.warnings) + list(transects.warnings) + list(climate.warnings)
-    results = [baseline]
+    results = [reference]
     for spec, sc_climate, duration_s, info in specs:
         t0 = time.perf_counter()
         result = evaluate(
@@ -764,7 +766,7 @@ def run_study(
             sign,
             chunk_steps,
             event_duration_s=duration_s,
-            closure_depth_m=baseline.closure_depth_m,
+            closure_depth_m=reference.closure_depth_m,
             point_index=point_index,
             progress=tick,
             structures=structures,
@@ -774,14 +776,14 @@ def run_study(
         )
         result.columns |= info.pop("columns", {})
         result.info |= {"scenario": info}
-        result.info["versus_baseline"] = compare_with_baseline(
-            result, baseline, study["classify"]["stable_band_m_per_yr"]
+        result.info["versus_reference"] = compare_with_reference(
+            result, reference, study["classify"]["stable_band_m_per_yr"]
         )
         results.append(result)
         timings[f"scenario:{spec['name']}"] = time.perf_counter() - t0
-    if np.all(baseline.columns["class"] == "sheltered"):
+    if np.all(reference.columns["class"] == "sheltered"):
         warnings.append(
-            "no baseline wave reaches any transect (waves from land, or land in the way within "
+            "no reference wave reaches any transect (waves from land, or land in the way within "
             "exposure_distance_m); on a lake or lagoon give the waves by wind scenarios with "
             'fetch_km = "auto"'
         )

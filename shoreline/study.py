@@ -115,7 +115,7 @@ SCHEMA: dict[str, dict[str, Key]] = {
             "float", 20000.0, check=_positive, doc="how far from the shore land is looked for"
         ),
         "spacing_m": Key("float", 100.0, check=_positive, doc="transect spacing on the ground"),
-        "smoothing_m": Key(
+        "orientation_window_m": Key(
             "float", 500.0, check=_positive, doc="window over which the orientation is averaged"
         ),
         "transect_length_m": Key(
@@ -190,8 +190,8 @@ SCHEMA: dict[str, dict[str, Key]] = {
 
 def _name(v: Any) -> str | None:
     ok = bool(v) and len(v) <= 64 and all(c.isalnum() or c in "-_" for c in v)
-    if not ok or v == "baseline" or v.startswith((".", "-")):
-        return "a folder-safe name (letters, digits, - and _), not 'baseline'"
+    if not ok or v == "reference" or v.startswith((".", "-")):
+        return "a folder-safe name (letters, digits, - and _), not 'reference'"
     return None
 
 
@@ -207,14 +207,14 @@ def _fetch(v: Any) -> str | None:
 
 #: Keys of one ``[[scenario]]`` table. A scenario is one of three kinds, told apart by its keys:
 #: a steady storm (``hs_m``, ``tp_s``, ``dir_deg``), a storm from the wind
-#: (``wind_speed_m_s``, ``wind_dir_deg``, ``fetch_km``) or a changed climate (the baseline
+#: (``wind_speed_m_s``, ``wind_dir_deg``, ``fetch_km``) or a changed climate (the reference
 #: record or its own ``file``, modified by ``hs_factor``, ``tp_factor``, ``dir_shift_deg``).
 SCENARIO_KEYS: dict[str, Key] = {
     "name": Key("str", required=True, check=_name, doc="name, also its output folder"),
     "hs_m": Key("float", check=_positive, doc="steady storm: significant height"),
     "tp_s": Key("float", check=_positive, doc="steady storm: peak period"),
     "dir_deg": Key("float", check=_direction, doc="steady storm: direction waves come from"),
-    "depth_m": Key("float-or-str", check=_depth, doc="depth of the waves (default: baseline's)"),
+    "depth_m": Key("float-or-str", check=_depth, doc="depth of the waves (default: reference's)"),
     "duration_h": Key("float", check=_positive, doc="length of the event, hours"),
     "wind_speed_m_s": Key("float", check=_positive, doc="wind storm: wind speed U10"),
     "wind_dir_deg": Key("float", check=_direction, doc="wind storm: direction wind comes from"),
@@ -222,7 +222,7 @@ SCENARIO_KEYS: dict[str, Key] = {
     "hs_factor": Key("float", check=_factor, doc="changed climate: factor on heights"),
     "tp_factor": Key("float", check=_factor, doc="changed climate: factor on periods"),
     "dir_shift_deg": Key("float", check=_direction, doc="changed climate: added to directions"),
-    "file": Key("str", doc="changed climate: a record of its own instead of the baseline's"),
+    "file": Key("str", doc="changed climate: a record of its own instead of the reference's"),
 }
 
 _KIND_KEYS = {
@@ -430,7 +430,7 @@ def _validate_scenarios(
             )
         if kind == "climate" and values["file"] is None and settings["waves"]["file"] is None:
             raise StudyError(
-                f"{path.name}: [{label}] a changed climate needs a wave record: the baseline "
+                f"{path.name}: [{label}] a changed climate needs a wave record: the reference "
                 "([waves] file) or its own file"
             )
         if values["name"] in seen:

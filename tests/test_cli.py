@@ -170,11 +170,11 @@ def test_no_figures_then_report_rebuilds_without_recomputing(tmp_path, capsys):
     path = setup(tmp_path, study_text())
     out = tmp_path / "out"
     assert main(["run", str(path), "--out", str(out), "--no-figures", "--quiet"]) == 0
-    assert not (out / "report.html").exists() and not (out / "baseline" / "map.png").exists()
-    before = (out / "baseline" / "transects.csv").read_bytes()
+    assert not (out / "report.html").exists() and not (out / "reference" / "map.png").exists()
+    before = (out / "reference" / "transects.csv").read_bytes()
     assert main(["report", str(out)]) == 0
-    assert (out / "report.html").exists() and (out / "baseline" / "map.png").exists()
-    assert (out / "baseline" / "transects.csv").read_bytes() == before
+    assert (out / "report.html").exists() and (out / "reference" / "map.png").exists()
+    assert (out / "reference" / "transects.csv").read_bytes() == before
     capsys.readouterr()
     assert main(["report", str(tmp_path / "nowhere")]) != 0
     err = capsys.readouterr().err

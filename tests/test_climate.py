@@ -244,15 +244,15 @@ def test_scenarios_storm_volume_wind_and_changed_climate(tmp_path):
     ustar = np.sqrt(0.001 * (1.1 + 0.035 * 20.0)) * 20.0
     x_eq = 5.23e-3 * (9.81 * 12 * 3600.0 / ustar) ** 1.5 * ustar**2 / 9.81
     assert (record["growth_limit"] == "duration") == (x_eq < 150e3)
-    # A changed climate carries its rate change against the baseline
+    # A changed climate carries its rate change against the reference
     rot = by_name["rotated"].columns
     np.testing.assert_allclose(
         rot["rate_change_m_per_yr"],
-        rot["rate_m_per_yr"] - by_name["baseline"].columns["rate_m_per_yr"],
+        rot["rate_m_per_yr"] - by_name["reference"].columns["rate_m_per_yr"],
     )
-    for name in ("baseline", "storm", "gale", "rotated"):
+    for name in ("reference", "storm", "gale", "rotated"):
         assert (out / name / "transects.geojson").exists()
-    assert not (out / "baseline" / "scenario.json").exists()
+    assert not (out / "reference" / "scenario.json").exists()
 
 
 def test_hallermeier_closure_depth_from_the_record(tmp_path):

@@ -19,7 +19,7 @@ from hypothesis import strategies as st
 from shoreline.coast import (
     CoastLines,
     Transects,
-    cast_transects,
+    lay_out_transects,
     read_coast,
     working_crs_for,
 )
@@ -111,7 +111,7 @@ def east_west_file(tmp_path):
 def test_east_west_shore_sea_to_the_south(east_west_file):
     coast = read_coast(east_west_file, sea="right")
     assert coast.working_crs.to_epsg() == 32631  # UTM zone of 5.5 E: floor(185.5 / 6) + 1 = 31
-    t = cast_transects(coast, spacing_m=100.0, smoothing_m=1000.0)
+    t = lay_out_transects(coast, spacing_m=100.0, orientation_window_m=1000.0)
     # Placement: n = floor(10050 / 100) + 1 = 101 transects at exactly 100 m, centred, so the
     # first is at (10050 - 100 * 100) / 2 = 25 m [derived: arithmetic from the documented rule].
     assert len(t) == 101
@@ -134,7 +134,7 @@ def test_east_west_shore_sea_to_the_south(east_west_file):
 
 
 def test_east_west_shore_sea_to_the_north(east_west_file):
-    t = cast_transects(read_coast(east_west_file, sea="left"), 100.0, 1000.0)
+    t = lay_out_transects(read_coast(east_west_file, sea="left"), 100.0, 1000.0)
     assert np.max(np.abs(angdiff(t.normal_az_deg, 0.0))) < 0.01
     assert ((t.normal_az_deg >= 0.0) & (t.normal_az_deg < 360.0)).all()
 
@@ -146,7 +146,7 @@ def test_long_lonlat_segment_is_straight_in_lonlat(tmp_path):
     # off the parallel. Densifying in the source CRS keeps the transects on it (1 cm).
     line = shapely.LineString([(LON0 - 0.075, LAT0), (LON0 + 0.075, LAT0)])
     coast = read_coast(write(tmp_path / "two_vertices.geojson", [line], WGS84))
-    t = cast_transects(coast, spacing_m=500.0, smoothing_m=1000.0)
+    t = lay_out_transects(coast, spacing_m=500.0, orientation_window_m=1000.0)
     _, lat = to_lonlat(coast.working_crs, t.x_m, t.y_m)
     np.testing.assert_allclose(lat, LAT0, atol=1e-7)  # 1e-7 deg = 1.1 cm
     assert np.max(np.abs(angdiff(t.normal_az_deg, 180.0))) < 0.01
@@ -160,7 +160,7 @@ def test_north_south_shore(tmp_path, sea, expected):
     lat = np.linspace(LAT0 - 0.05, LAT0 + 0.05, 250)
     line = shapely.LineString(np.column_stack([np.full(lat.size, LON0), lat]))
     coast = read_coast(write(tmp_path / "meridian.gpkg", [line], WGS84), sea=sea)
-    t = cast_transects(coast, spacing_m=250.0, smoothing_m=1000.0)
+    t = lay_out_transects(coast, spacing_m=250.0, orientation_window_m=1000.0)
     assert np.max(np.abs(angdiff(t.normal_az_deg, expected))) < 0.01
     # Chainage against the geodesic length along the meridian (pyproj.Geod), 1 mm.
     lon, latt = to_lonlat(coast.working_crs, t.x_m, t.y_m)
@@ -187,7 +187,7 @@ def test_same_coast_in_lonlat_utm_and_web_mercator(tmp_path):
     for label, path in files.items():
         coast = read_coast(path, sea="right")
         assert coast.working_crs.to_epsg() == 32631  # Web Mercator is never used as metres
-        results[label] = cast_transects(coast, spacing_m=200.0, smoothing_m=1000.0)
+        results[label] = lay_out_transects(coast, spacing_m=200.0, orientation_window_m=1000.0)
     ref = results["lonlat"]
     ref_lon, ref_lat = to_lonlat(ref.working_crs, ref.x_m, ref.y_m)
     for label in ("utm", "webmerc"):
@@ -215,7 +215,7 @@ def test_round_bay_normals_and_the_slid_window_at_the_ends(tmp_path):
     )
     line = shapely.LineString(np.column_stack([lon, lat]))
     coast = read_coast(write(tmp_path / "bay.geojson", [line], WGS84), sea="right")
-    t = cast_transects(coast, spacing_m=200.0, smoothing_m=2 * h)
+    t = lay_out_transects(coast, spacing_m=200.0, orientation_window_m=2 * h)
     arc = np.radians(140.0) * radius  # ground length; the 0.1-deg polygon is 1e-7 shorter
     lon_t, lat_t = to_lonlat(t.working_crs, t.x_m, t.y_m)
     az_to_centre, _, _ = GEOD.inv(lon_t, lat_t, np.full(len(t), LON0), np.full(len(t), LAT0))
@@ -247,7 +247,7 @@ def test_round_island_normals_point_radially_outward(tmp_path, clockwise):
     # `sea` is ignored for polygons: the sea is outside the land.
     coast = read_coast(write(tmp_path / "island.geojson", [island], WGS84), sea="left")
     assert coast.closed.tolist() == [True]
-    t = cast_transects(coast, spacing_m=100.0, smoothing_m=500.0)
+    t = lay_out_transects(coast, spacing_m=100.0, orientation_window_m=500.0)
     perimeter = GEOD.line_length(np.r_[lon, lon[0]], np.r_[lat, lat[0]])
     n = round(perimeter / 100.0)  # 4 pi km / 100 m = 125.66... -> 126
     assert len(t) == n
@@ -281,7 +281,7 @@ def test_lake_in_a_polygon_hole_normals_point_into_the_hole(tmp_path, clockwise)
     land = shapely.Polygon(square if clockwise else square[::-1], [ring])  # any orientation
     coast = read_coast(write(tmp_path / "lake.gpkg", [land], WGS84))
     assert len(coast.parts) == 2 and coast.closed.all()
-    t = cast_transects(coast, spacing_m=100.0, smoothing_m=300.0)
+    t = lay_out_transects(coast, spacing_m=100.0, orientation_window_m=300.0)
     lon_t, lat_t = to_lonlat(t.working_crs, t.x_m, t.y_m)
     hole = t.part_id == 1
     az_to_centre, _, _ = GEOD.inv(
@@ -328,7 +328,7 @@ def test_mixed_lines_and_polygons(tmp_path):
     assert coast.closed.tolist() == [False, True]
     assert coast.source_feature.tolist() == [0, 1]
     assert coast.sea_on_right.tolist()[0] is False
-    t = cast_transects(coast, 100.0, 200.0)
+    t = lay_out_transects(coast, 100.0, 200.0)
     # line digitised eastward with the sea on the left: north (0 deg); the line lies 5-10 km
     # west of the central meridian, where grid and true north differ by less than 0.1 deg.
     on_line = t.part_id == 0
@@ -351,13 +351,13 @@ def test_digitising_noise_barely_moves_the_normals(tmp_path):
     y = np.full(x.size, 4760000.0)
     noisy = np.column_stack([x, y]) + rng.uniform(-1.5, 1.5, size=(x.size, 2))
     coast = read_coast(write(tmp_path / "noisy.gpkg", [shapely.LineString(noisy)], UTM31N))
-    t = cast_transects(coast, spacing_m=100.0, smoothing_m=1000.0)
+    t = lay_out_transects(coast, spacing_m=100.0, orientation_window_m=1000.0)
     # Noiseless direction: grid azimuth 180 (sea right of an eastward line), converted to true
     # azimuth at each transect point with pyproj.Geod on projected 1 m steps.
     expected = true_azimuth_of_grid_direction(UTM31N, t.x_m, t.y_m, 180.0)
     deviation = np.max(np.abs(angdiff(t.normal_az_deg, expected)))
     # Size: each half-window centroid averages 500 m (~100 vertices) of noise of standard
-    # deviation 1.5 / sqrt(3) = 0.87 m, i.e. ~0.09 m, over a 500 m baseline between centroids:
+    # deviation 1.5 / sqrt(3) = 0.87 m, i.e. ~0.09 m, over a 500 m reference between centroids:
     # ~sqrt(2) 0.09 / 500 rad = 0.015 deg per transect [derived: arithmetic], ~0.05 deg at most
     # over 200 transects; the brief asks for < 0.3 deg.
     assert deviation < 0.3
@@ -372,8 +372,8 @@ def test_vertex_density_does_not_change_the_normals():
         line = shapely.LineString(np.column_stack([495000.0 + x, 4760000.0 + y]))
         return CoastLines([line], np.array([False]), np.array([0]), UTM31N, UTM31N, [])
 
-    fine = cast_transects(coast_at(2.0), spacing_m=100.0, smoothing_m=1000.0)
-    coarse = cast_transects(coast_at(50.0), spacing_m=100.0, smoothing_m=1000.0)
+    fine = lay_out_transects(coast_at(2.0), spacing_m=100.0, orientation_window_m=1000.0)
+    coarse = lay_out_transects(coast_at(50.0), spacing_m=100.0, orientation_window_m=1000.0)
     assert len(fine) == len(coarse)
     assert np.max(np.abs(angdiff(fine.normal_az_deg, coarse.normal_az_deg))) < 0.2
     assert np.max(np.hypot(fine.x_m - coarse.x_m, fine.y_m - coarse.y_m)) < 1.0
@@ -395,7 +395,7 @@ def test_straight_shore_any_direction(grid_az, easting, sea_right):
     coast = CoastLines(
         [line], np.array([False]), np.array([0]), UTM31N, UTM31N, [], np.array([sea_right])
     )
-    t = cast_transects(coast, spacing_m=250.0, smoothing_m=600.0)
+    t = lay_out_transects(coast, spacing_m=250.0, orientation_window_m=600.0)
     turn = 90.0 if sea_right else -90.0
     expected = true_azimuth_of_grid_direction(UTM31N, t.x_m, t.y_m, grid_az + turn)
     assert np.max(np.abs(angdiff(t.normal_az_deg, expected))) < 0.005
@@ -407,7 +407,7 @@ def test_straight_shore_any_direction(grid_az, easting, sea_right):
 
 
 def test_transect_lines_have_ground_length_and_true_azimuth(east_west_file):
-    t = cast_transects(read_coast(east_west_file), 1000.0, 1000.0)
+    t = lay_out_transects(read_coast(east_west_file), 1000.0, 1000.0)
     lines = t.lines(5000.0)
     assert len(lines) == len(t)
     start = shapely.get_coordinates(shapely.get_point(lines, 0))
@@ -433,7 +433,7 @@ def test_multilinestring_parts_are_separate_shores(tmp_path):
     coast = read_coast(path)
     assert len(coast.parts) == 2
     assert coast.source_feature.tolist() == [0, 0]
-    t = cast_transects(coast, spacing_m=500.0, smoothing_m=500.0)
+    t = lay_out_transects(coast, spacing_m=500.0, orientation_window_m=500.0)
     np.testing.assert_array_equal(t.transect_id, np.arange(len(t)))
     first = t.part_id == 0
     second = t.part_id == 1
@@ -450,11 +450,11 @@ def test_short_parts_are_skipped_with_a_warning():
     coast = CoastLines(
         [long, short], np.array([False, False]), np.array([0, 1]), UTM31N, UTM31N, []
     )
-    t = cast_transects(coast, spacing_m=100.0, smoothing_m=500.0)
+    t = lay_out_transects(coast, spacing_m=100.0, orientation_window_m=500.0)
     assert set(t.part_id.tolist()) == {0}
     assert any("too short" in w and "parts 1" in w for w in t.warnings)
     with pytest.raises(CoastError, match="spacing_m = 5000"):
-        cast_transects(coast, spacing_m=5000.0, smoothing_m=500.0)
+        lay_out_transects(coast, spacing_m=5000.0, orientation_window_m=500.0)
 
 
 def test_bad_spacing_and_smoothing_values():
@@ -468,9 +468,9 @@ def test_bad_spacing_and_smoothing_values():
     )
     for bad in (0.0, -1.0, np.nan, "wide"):
         with pytest.raises(ValueError, match="spacing_m"):
-            cast_transects(coast, bad, 100.0)
-        with pytest.raises(ValueError, match="smoothing_m"):
-            cast_transects(coast, 100.0, bad)
+            lay_out_transects(coast, bad, 100.0)
+        with pytest.raises(ValueError, match="orientation_window_m"):
+            lay_out_transects(coast, 100.0, bad)
 
 
 def test_meeting_line_ends_are_reported(tmp_path):
@@ -615,7 +615,7 @@ def test_bow_tie_polygon_is_repaired_with_a_warning(tmp_path):
     # make_valid splits the bow tie into its two triangles: two closed rings from feature 1.
     rings = coast.source_feature == 1
     assert rings.sum() == 2 and coast.closed[rings].all()
-    t = cast_transects(coast, 200.0, 400.0)
+    t = lay_out_transects(coast, 200.0, 400.0)
     assert np.isfinite(t.normal_az_deg).all()
 
 
@@ -647,7 +647,7 @@ def test_bad_sea_value(east_west_file):
 
 def test_results_are_read_only(east_west_file):
     coast = read_coast(east_west_file)
-    t = cast_transects(coast, 100.0, 1000.0)
+    t = lay_out_transects(coast, 100.0, 1000.0)
     assert isinstance(t, Transects)
     with pytest.raises(ValueError):
         t.normal_az_deg[0] = 0.0

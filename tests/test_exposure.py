@@ -26,7 +26,7 @@ from hypothesis import strategies as st
 from pyproj.crs import ProjectedCRS
 from pyproj.crs.coordinate_operation import TransverseMercatorConversion
 
-from shoreline.coast import CoastLines, Transects, cast_transects
+from shoreline.coast import CoastLines, Transects, lay_out_transects
 from shoreline.errors import CoastError
 from shoreline.exposure import Exposure, _widest_open_sector, compute_exposure
 
@@ -131,7 +131,7 @@ def test_straight_open_coast_is_open_over_the_half_circle(normal_deg):
     assert e.max_distance_m == 20000.0 and e.start_offset_m == OFFSET_M
 
 
-def test_noisy_straight_coast_from_cast_transects_is_open():
+def test_noisy_straight_coast_from_lay_out_transects_is_open():
     # The same geometry digitised with +-2 m noise every 10 m, normals from shoreline.coast:
     # wiggles smaller than the 20 m start offset cannot reach a ray that heads seaward (or runs
     # parallel) from 18-22 m off the mean line, so every cast ray is open (geometric fact).
@@ -139,7 +139,7 @@ def test_noisy_straight_coast_from_cast_transects_is_open():
     x = np.arange(-15000.0, 15000.0 + 1.0, 10.0)
     shore = shapely.LineString(np.column_stack([x, rng.uniform(-2.0, 2.0, x.size)]))
     coast = CoastLines([shore], np.array([False]), np.array([0]), PLANE, PLANE)
-    t = cast_transects(coast, spacing_m=1000.0, smoothing_m=1000.0)
+    t = lay_out_transects(coast, spacing_m=1000.0, orientation_window_m=1000.0)
     e = compute_exposure(t, coast.parts)
     for i in range(len(t)):
         expected = rays_in_half_circle(float(t.normal_az_deg[i]))

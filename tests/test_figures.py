@@ -1,7 +1,7 @@
 """Tests of shoreline.figures on a small synthetic output folder.
 
 The folder is invented (a curved bay of about 5 km and a straight 1.4 km stretch in UTM zone
-12S, 40 transects, made-up rates and transports, two hotspots in the baseline). Invented values
+12S, 40 transects, made-up rates and transports, two hotspots in the reference). Invented values
 are only used to exercise plotting and structure; no test checks an invented number as a
 physical result. ``build_output_folder`` is also used by tests/test_report.py.
 """
@@ -196,27 +196,27 @@ def _wave_climate_csv(path: Path, seed: int) -> None:
 
 
 def _invented_info(name: str, event: bool) -> dict:
-    """The "info" member of summary.json: scenario definition and changes against the baseline."""
-    if name == "baseline":
+    """The "info" member of summary.json: scenario definition and changes against the reference."""
+    if name == "reference":
         return {}
     if event:
         return {
             "event_duration_h": 36.0,
             "scenario": {"kind": "storm", "hs_m": 3.5, "tp_s": 9.0, "dir_deg": 20.0},
-            "versus_baseline": {"event": True, "hotspots": [1, 2, 3]},
+            "versus_reference": {"event": True, "hotspots": [1, 2, 3]},
         }
     return {
         "scenario": {"kind": "climate", "hs_factor": 1.6},
-        "versus_baseline": {
+        "versus_reference": {
             "event": False,
             "created": [3],
-            "removed_baseline": [],
+            "removed_reference": [],
             "worsened": [
                 {
                     "hotspot_id": 1,
-                    "baseline_hotspot_id": 1,
+                    "reference_hotspot_id": 1,
                     "peak_rate_m_per_yr": -3.5,
-                    "baseline_peak_rate_m_per_yr": -2.2,
+                    "reference_peak_rate_m_per_yr": -2.2,
                 }
             ],
         },
@@ -224,14 +224,14 @@ def _invented_info(name: str, event: bool) -> dict:
 
 
 def build_output_folder(
-    root: Path, scenarios=("baseline", "storm-sw"), n_per_part=(30, 10)
+    root: Path, scenarios=("reference", "storm-sw"), n_per_part=(30, 10)
 ) -> Path:
     """Write an invented output folder (run.json + one folder per scenario) under ``root``."""
     root.mkdir(parents=True, exist_ok=True)
     for i, name in enumerate(scenarios):
         folder = root / name
         folder.mkdir(exist_ok=True)
-        storm = name != "baseline"
+        storm = name != "reference"
         event = name.startswith("event")  # e.g. "event-ne": a storm event (shift, not rate)
         shore, transects, hotspots, mean_normal = _scenario_frames(
             1.6 if storm else 1.0, storm, n_per_part, event
@@ -325,23 +325,23 @@ def _check_png(path: Path, dpi: int = 150) -> None:
     assert (grey < 80).mean() > 0.002
 
 
-def test_write_figures_scenario_without_baseline(out_dir: Path) -> None:
-    written = write_figures(out_dir / "baseline")
+def test_write_figures_scenario_without_reference(out_dir: Path) -> None:
+    written = write_figures(out_dir / "reference")
     assert {p.name for p in written} == BASE_NAMES
-    assert not (out_dir / "baseline" / "vs_baseline.png").exists()
+    assert not (out_dir / "reference" / "vs_reference.png").exists()
     for path in written:
-        assert path.parent == out_dir / "baseline"
+        assert path.parent == out_dir / "reference"
         _check_png(path)
-    assert not list((out_dir / "baseline").glob(".*.tmp")), "temporary file left behind"
+    assert not list((out_dir / "reference").glob(".*.tmp")), "temporary file left behind"
 
 
-def test_write_figures_with_baseline_adds_comparison_fast_and_closed(out_dir: Path) -> None:
+def test_write_figures_with_reference_adds_comparison_fast_and_closed(out_dir: Path) -> None:
     import matplotlib.pyplot as plt
 
     t0 = time.perf_counter()
-    written = write_figures(out_dir / "storm-sw", baseline_dir=out_dir / "baseline", dpi=160)
+    written = write_figures(out_dir / "storm-sw", reference_dir=out_dir / "reference", dpi=160)
     elapsed = time.perf_counter() - t0
-    assert {p.name for p in written} == BASE_NAMES | {"vs_baseline.png"}
+    assert {p.name for p in written} == BASE_NAMES | {"vs_reference.png"}
     for path in written:
         _check_png(path, dpi=160)
     # Target < 2 s for a few hundred transects (about 1.1-1.5 s measured for 330 on the
@@ -353,7 +353,7 @@ def test_write_figures_with_baseline_adds_comparison_fast_and_closed(out_dir: Pa
 def test_storm_event_without_hotspot_layer_draws_shift_and_two_panels(tmp_path: Path) -> None:
     import pyogrio
 
-    out = build_output_folder(tmp_path / "o", scenarios=("baseline", "event-ne"))
+    out = build_output_folder(tmp_path / "o", scenarios=("reference", "event-ne"))
     folder = out / "event-ne"
     gpkg = folder / "results.gpkg"
     # Rewrite the GeoPackage without the hotspot layer (a coast where nothing is flagged).
@@ -368,12 +368,12 @@ def test_storm_event_without_hotspot_layer_draws_shift_and_two_panels(tmp_path: 
     assert metric.column == "shoreline_shift_m" and metric.unit == "m" and metric.event
     # summary.json of the fixture has no event band: it is read from run.json [classify].
     assert metric.band == EVENT_BAND_M
-    assert scenario_metric(read_scenario(out / "baseline")).column == "rate_m_per_yr"
-    written = write_figures(folder, baseline_dir=out / "baseline", dpi=40)  # structure only
-    assert {p.name for p in written} == BASE_NAMES | {"vs_baseline.png"}
+    assert scenario_metric(read_scenario(out / "reference")).column == "rate_m_per_yr"
+    written = write_figures(folder, reference_dir=out / "reference", dpi=40)  # structure only
+    assert {p.name for p in written} == BASE_NAMES | {"vs_reference.png"}
 
 
-def test_baseline_dir_same_as_scenario_draws_no_comparison(out_dir: Path, monkeypatch) -> None:
+def test_reference_dir_same_as_scenario_draws_no_comparison(out_dir: Path, monkeypatch) -> None:
     from matplotlib.figure import Figure
 
     import shoreline.figures as figures
@@ -387,18 +387,18 @@ def test_baseline_dir_same_as_scenario_draws_no_comparison(out_dir: Path, monkey
 
         return draw
 
-    for name in ("_map_figure", "_alongshore_figure", "_wave_rose_figure", "_vs_baseline_figure"):
+    for name in ("_map_figure", "_alongshore_figure", "_wave_rose_figure", "_vs_reference_figure"):
         monkeypatch.setattr(figures, name, stub(name))
-    folder = out_dir / "baseline"
-    written = figures.write_figures(folder, baseline_dir=folder)
+    folder = out_dir / "reference"
+    written = figures.write_figures(folder, reference_dir=folder)
     assert {p.name for p in written} == BASE_NAMES
-    assert "_vs_baseline_figure" not in calls
+    assert "_vs_reference_figure" not in calls
 
 
 def test_transport_panel_plots_formulas_not_gross_or_one_way(out_dir: Path) -> None:
     from shoreline.figures import _transport_columns
 
-    data = read_scenario(out_dir / "baseline")
+    data = read_scenario(out_dir / "reference")
     assert [n for n, _ in _transport_columns(data)] == ["cerc", "kamphuis"]  # primary first
     data.summary.pop("formulas")  # without the list: every q column except gross/pos/neg
     assert {n for n, _ in _transport_columns(data)} == {"cerc", "kamphuis"}
@@ -453,8 +453,8 @@ def test_true_north_offset_against_pyproj_meridian_convergence() -> None:
 
 
 def test_part_layout_separates_parts_with_a_gap(out_dir: Path) -> None:
-    shore = gpd.read_file(out_dir / "baseline" / "results.gpkg", layer="shoreline")
-    transects = gpd.read_file(out_dir / "baseline" / "results.gpkg", layer="transects")
+    shore = gpd.read_file(out_dir / "reference" / "results.gpkg", layer="shoreline")
+    transects = gpd.read_file(out_dir / "reference" / "results.gpkg", layer="transects")
     layout = part_layout(shore, transects)
     assert sorted(layout) == [0, 1]
     (off0, span0), (off1, span1) = layout[0], layout[1]

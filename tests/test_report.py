@@ -104,7 +104,7 @@ class _Page(HTMLParser):
 
 def _placeholder_figures(out: Path) -> None:
     """Write small stand-in PNGs (the report only embeds them; tests/test_figures.py draws)."""
-    names = {"baseline": FIGURES[:3], "storm-sw": FIGURES, "event-ne": FIGURES}
+    names = {"reference": FIGURES[:3], "storm-sw": FIGURES, "event-ne": FIGURES}
     for folder, files in names.items():
         for i, name in enumerate(files):
             img = Image.new("RGB", (320, 200), "white")
@@ -112,12 +112,12 @@ def _placeholder_figures(out: Path) -> None:
             img.save(out / folder / name, dpi=(150, 150))
 
 
-FIGURES = ("map.png", "alongshore.png", "wave_climate.png", "vs_baseline.png")
+FIGURES = ("map.png", "alongshore.png", "wave_climate.png", "vs_reference.png")
 
 
 @pytest.fixture(scope="module")
 def report(tmp_path_factory):
-    scenarios = ("baseline", "storm-sw", "event-ne")
+    scenarios = ("reference", "storm-sw", "event-ne")
     out = build_output_folder(tmp_path_factory.mktemp("rep") / "out", scenarios=scenarios)
     _placeholder_figures(out)
     before = {p.relative_to(out) for p in out.rglob("*")}
@@ -152,10 +152,10 @@ def test_every_section_present_in_order(report) -> None:
     page = report["page"]
     order = [page.index_of("section", id=s) for s in ("study", "method", "results", "warnings")]
     assert order == sorted(order)
-    base = page.index_of("section", id="scenario-baseline")
+    base = page.index_of("section", id="scenario-reference")
     storm = page.index_of("section", id="scenario-storm-sw")
     event = page.index_of("section", id="scenario-event-ne")
-    assert order[2] < base < storm < event < order[3], "baseline first, then run.json order"
+    assert order[2] < base < storm < event < order[3], "reference first, then run.json order"
 
 
 def test_run_date_version_inputs_and_settings_shown(report) -> None:
@@ -188,16 +188,16 @@ def test_method_cites_the_published_sources(report) -> None:
 
 def test_hotspot_table_rows_match_each_scenario(report) -> None:
     page = report["page"]
-    for name in ("baseline", "storm-sw", "event-ne"):
+    for name in ("reference", "storm-sw", "event-ne"):
         gpkg = report["out"] / name / "results.gpkg"
         n = len(gpd.read_file(gpkg, layer="hotspots"))
         assert page.hotspot_rows[name] == n
-    assert page.hotspot_rows["baseline"] != page.hotspot_rows["storm-sw"]  # fixture: 2 vs 3
+    assert page.hotspot_rows["reference"] != page.hotspot_rows["storm-sw"]  # fixture: 2 vs 3
 
 
 def test_images_are_embedded_png_data_uris(report) -> None:
     imgs = [a for t, a in report["page"].events if t == "img"]
-    # 3 figures in the baseline folder, 4 (with vs_baseline) in each other scenario.
+    # 3 figures in the reference folder, 4 (with vs_reference) in each other scenario.
     assert len(imgs) == 11
     for a in imgs:
         src = a["src"]
@@ -235,41 +235,41 @@ def test_strings_from_files_are_escaped(report) -> None:
     assert "Invented <bay> test" in " ".join(page.text)  # the study name, shown as text
 
 
-def test_storm_event_table_and_changes_against_baseline(report) -> None:
+def test_storm_event_table_and_changes_against_reference(report) -> None:
     text = " ".join(report["page"].text)
     # The event's hotspot layer has shift columns: the table says so in its headings.
     assert "Mean shift [m]" in text and "Volume over the storm [m\u00b3]" in text
     assert "Mean rate [m/yr]" in text  # the yearly scenarios keep the rate headings
-    # The fixture's versus_baseline record of "storm-sw": hotspot 3 (erosion) is new.
+    # The fixture's versus_reference record of "storm-sw": hotspot 3 (erosion) is new.
     assert "new hotspots: E3" in text
     assert "worsened: E1" in text
     assert "A storm event" in text
 
 
 def test_report_without_figures_says_they_are_missing(tmp_path: Path) -> None:
-    out = build_output_folder(tmp_path / "out", scenarios=("baseline",))
+    out = build_output_folder(tmp_path / "out", scenarios=("reference",))
     text = write_report(out).read_text(encoding="utf-8")
     assert text.count("not found in the folder") == 3
     assert "<img" not in text
 
 
-def test_draw_figures_option_draws_each_folder_against_the_baseline(
+def test_draw_figures_option_draws_each_folder_against_the_reference(
     tmp_path: Path, monkeypatch
 ) -> None:
     # Wiring only (drawing is tested in tests/test_figures.py): each scenario folder is drawn,
-    # the others against the baseline folder, before the report embeds the PNGs.
+    # the others against the reference folder, before the report embeds the PNGs.
     import shoreline.report as report_module
 
-    out = build_output_folder(tmp_path / "out", scenarios=("baseline", "storm-sw"))
+    out = build_output_folder(tmp_path / "out", scenarios=("reference", "storm-sw"))
     calls = []
 
-    def fake_write_figures(folder, baseline_dir=None):
-        calls.append((Path(folder).name, None if baseline_dir is None else Path(baseline_dir)))
+    def fake_write_figures(folder, reference_dir=None):
+        calls.append((Path(folder).name, None if reference_dir is None else Path(reference_dir)))
         Image.new("RGB", (40, 30), "grey").save(Path(folder) / "map.png")
 
     monkeypatch.setattr(report_module, "write_figures", fake_write_figures)
     text = write_report(out, draw_figures=True).read_text(encoding="utf-8")
-    assert calls == [("baseline", None), ("storm-sw", out / "baseline")]
+    assert calls == [("reference", None), ("storm-sw", out / "reference")]
     assert text.count('src="data:image/png;base64,') == 2
 
 

@@ -43,7 +43,7 @@ def write_study(folder: Path, coast: str, waves_toml: str, extra: str = "") -> P
 file = "{coast}"
 sea = "right"
 spacing_m = 100.0
-smoothing_m = 500.0
+orientation_window_m = 500.0
 
 [waves]
 {waves_toml}
@@ -165,7 +165,9 @@ def test_digitising_noise_makes_no_hotspots(tmp_path):
     y = y + rng.uniform(-1.5, 1.5, x.size)
     write_coast(tmp_path, x, y)
     study = write_study(tmp_path, "coast.geojson", "hs_m = 0.7\ntp_s = 8.0\ndir_deg = 190.0")
-    text = study.read_text().replace("smoothing_m = 500.0", "smoothing_m = 1000.0")
+    text = study.read_text().replace(
+        "orientation_window_m = 500.0", "orientation_window_m = 1000.0"
+    )
     study.write_text(text)
     scen = run_study(read_study(study)).scenarios[0]
     q = scen.columns["q_cerc_m3_per_yr"]
@@ -208,7 +210,7 @@ def test_run_writes_rfc7946_layers(tmp_path):
     write_coast(tmp_path, *straight())
     study = write_study(tmp_path, "coast.geojson", STEADY)
     assert main(["run", str(study), "--out", str(tmp_path / "out"), "--no-figures"]) == 0
-    base = tmp_path / "out" / "baseline"
+    base = tmp_path / "out" / "reference"
     data = json.loads((base / "transects.geojson").read_text())
     assert data["type"] == "FeatureCollection"
     assert "crs" not in data  # RFC 7946 section 4: WGS 84 only, no crs member

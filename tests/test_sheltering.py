@@ -63,7 +63,9 @@ def test_headland_shelters_its_bay(tmp_path):
     y = np.r_[np.zeros(300), -np.linspace(0, 1500, 75), -np.linspace(1500, 0, 75), np.zeros(300)]
     write_coast(tmp_path, x, y)
     study = write_study(tmp_path, "coast.geojson", "hs_m = 1.0\ntp_s = 8.0\ndir_deg = 225.0")
-    study.write_text(study.read_text().replace("smoothing_m = 500.0", "smoothing_m = 100.0"))
+    study.write_text(
+        study.read_text().replace("orientation_window_m = 500.0", "orientation_window_m = 100.0")
+    )
     result = run_study(read_study(study))
     cols = result.scenarios[0].columns
     # transects on the eastern straight shore, by their distance from the headland: the
@@ -90,7 +92,7 @@ def test_round_lake_fetch_and_wind_waves(tmp_path):
 file = "lake.gpkg"
 polygons = "water"
 spacing_m = 100.0
-smoothing_m = 300.0
+orientation_window_m = 300.0
 
 [waves]
 hs_m = 0.3

@@ -107,7 +107,7 @@ def test_structures_layer_written(tmp_path):
     study = jetty_study(tmp_path, 0.0)
     out = tmp_path / "out"
     assert main(["run", str(study.path), "--out", str(out), "--no-figures", "--quiet"]) == 0
-    data = json.loads((out / "baseline" / "structures.geojson").read_text())
+    data = json.loads((out / "reference" / "structures.geojson").read_text())
     props = data["features"][0]["properties"]
     for key in (
         "structure_id",
@@ -118,7 +118,7 @@ def test_structures_layer_written(tmp_path):
         "trapped_m3_per_yr",
     ):
         assert key in props
-    assert "structures" in set(gpd.list_layers(out / "baseline" / "results.gpkg")["name"])
+    assert "structures" in set(gpd.list_layers(out / "reference" / "results.gpkg")["name"])
     assert main(["report", str(out)]) == 0
     html = (out / "report.html").read_text(encoding="utf-8")
     assert '<table class="structures">' in html and "J1" in html

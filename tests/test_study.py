@@ -129,7 +129,7 @@ def test_scenarios_read_with_kind(tmp_path):
             '[[scenario]]\nname = "x"\nhs_m = 2.0\ntp_s = 8.0\ndir_deg = 1.0\nhs_factor = 2.0\n',
             ["one kind"],
         ),
-        ('[[scenario]]\nname = "baseline"\nhs_factor = 1.1\n', ["name"]),
+        ('[[scenario]]\nname = "reference"\nhs_factor = 1.1\n', ["name"]),
         ('[[scenario]]\nname = "x"\nhs_factor = 1.1\n', ["needs a wave record"]),
         (
             '[[scenario]]\nname = "x"\nwind_speed_m_s = 9.0\nwind_dir_deg = 1.0\nfetch_km = 5.0\n',

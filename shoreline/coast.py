@@ -881,7 +881,8 @@ def lay_out_transects(
     ahead. The centroids are exact integrals of the piecewise-linear shore, so ``T`` does not
     depend on the vertex density, and each averages half a window of digitising noise. On an
     open part the window is slid inward near the ends so it always covers
-    ``orientation_window_m`` of shore (the whole part if shorter): within h of an end the normal is that at h from the end.
+    ``orientation_window_m`` of shore (the whole part if shorter): within h of an end the normal
+    is that at h from the end.
     On a ring the window wraps and is capped at half the ring. The seaward normal is ``T``
     turned 90 degrees toward the sea; its grid azimuth is converted to a true azimuth with the
     meridian convergence at the window centre (see :func:`_scale_and_north`).

@@ -23,8 +23,8 @@ import numpy as np
 from shoreline import profile, transport, waves, wind
 from shoreline.budget import (
     Hotspot,
-    alongshore_gradient,
     classify,
+    face_budget,
     find_hotspots,
     shoreline_change_rate,
 )
@@ -37,7 +37,7 @@ from shoreline.climate import (
 from shoreline.coast import CoastLines, Transects, lay_out_transects, read_coast
 from shoreline.errors import CoastError, StudyError
 from shoreline.exposure import Exposure, compute_exposure
-from shoreline.structures import Structures, Trapping, apply_structures, read_structures
+from shoreline.structures import Structures, Trapping, read_structures
 from shoreline.study import Study
 
 #: Transect-steps evaluated per chunk of the record (bounds the memory of the hot path).
@@ -252,6 +252,17 @@ def transport_reductions(
     )
 
 
+def budget_scale_m(transects: Transects) -> float:
+    """The along-shore scale of the transport gradient: the orientation fit's Gaussian sigma [m].
+
+    The gradient is taken at the scale the orientation was measured at (docs/methods.md).
+    """
+    from shoreline.coast import SIGMA_PER_WINDOW
+
+    window = transects.orientation_window_m
+    return float(window) * SIGMA_PER_WINDOW if np.isfinite(window) else 0.0
+
+
 def closure_depth_from_record(climate: WaveClimate) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Hallermeier (1981) closure depth per wave point: ``(dc_m, he_m, te_s)``.
 
@@ -459,13 +470,21 @@ def evaluate(
     else:
         dc = np.full(n, float(m["closure_depth_m"]))
     hs_mean, hs_12h = (v[point_index] for v in wave_statistics(climate))
-    q = red.q_net_m3_per_yr[m["primary"]]
-    dqdx = alongshore_gradient(q, transects.part_id, transects.spacing_m, transects.part_closed)
+    has_structures = structures is not None and len(structures) > 0
+    budget = face_budget(
+        red.q_pos_m3_per_yr,
+        red.q_neg_m3_per_yr,
+        transects.part_id,
+        transects.spacing_m,
+        transects.part_closed,
+        sigma_m=budget_scale_m(transects),
+        structure_face=structures.face if has_structures else None,
+        structure_bypass=structures.bypass if has_structures else None,
+    )
+    dqdx = budget.dqdx_m2_per_yr
     trapping = None
-    if structures is not None and len(structures):
-        dqdx, trapping = apply_structures(
-            dqdx, red.q_pos_m3_per_yr, red.q_neg_m3_per_yr, structures, transects
-        )
+    if has_structures:
+        trapping = Trapping(budget.arriving, budget.passing, budget.trapped)
     rate = shoreline_change_rate(dqdx, dc, m["berm_height_m"])
     sheltered = red.sheltered_fraction >= 1.0 - 1e-12
     rate = np.where(sheltered & (dqdx == 0), 0.0, rate)

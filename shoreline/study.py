@@ -81,6 +81,12 @@ def _closure(v: Any) -> str | None:
     return None if v > 0 else '"hallermeier" or a depth in metres > 0'
 
 
+def _window(v: Any) -> str | None:
+    if isinstance(v, str):
+        return None if v == "auto" else '"auto" or a length in metres > 0'
+    return None if v > 0 else '"auto" or a length in metres > 0'
+
+
 def _formulas(v: Any) -> str | None:
     bad = [f for f in v if f not in KNOWN_FORMULAS]
     if bad or not v:
@@ -116,7 +122,10 @@ SCHEMA: dict[str, dict[str, Key]] = {
         ),
         "spacing_m": Key("float", 100.0, check=_positive, doc="transect spacing on the ground"),
         "orientation_window_m": Key(
-            "float", 500.0, check=_positive, doc="window over which the orientation is averaged"
+            "float-or-str",
+            "auto",
+            check=_window,
+            doc='shore length each orientation is fitted over; "auto": from the data',
         ),
         "transect_length_m": Key(
             "float", 500.0, check=_positive, doc="drawn seaward length of each transect"

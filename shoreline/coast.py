@@ -118,6 +118,9 @@ class CoastLines:
         Default: on the right of every part.
     path : str, optional
         The file the coast was read from (for messages).
+    vertex_spacing_m, vertex_noise_m : float, optional
+        Median spacing of the file's own vertices and the robust amplitude of their scatter
+        about a smooth line (see :func:`vertex_noise`) [m]; NaN when not measured.
     """
 
     parts: list[shapely.LineString]
@@ -128,6 +131,8 @@ class CoastLines:
     warnings: list = field(default_factory=list)
     sea_on_right: np.ndarray | None = None
     path: str = ""
+    vertex_spacing_m: float = float("nan")
+    vertex_noise_m: float = float("nan")
 
     def __post_init__(self):
         n = len(self.parts)
@@ -561,6 +566,14 @@ def read_coast(
     west, east = _lon_extent(lon)
     working = _working_crs_from_extent(west, float(lat.min()), east, float(lat.max()))
 
+    spacing_m, noise_m = vertex_noise(
+        np.column_stack(
+            pyproj.Transformer.from_crs(source_crs, working, always_xy=True).transform(
+                coords[:, 0], coords[:, 1]
+            )
+        ),
+        vidx,
+    )
     xy, vidx = _project_densified(coords, vidx, source_crs, working)
     if not np.isfinite(xy).all():
         raise CoastError(
@@ -601,7 +614,36 @@ def read_coast(
         warnings=notes,
         sea_on_right=sea_right[keep],
         path=name,
+        vertex_spacing_m=spacing_m,
+        vertex_noise_m=noise_m,
     )
+
+
+def vertex_noise(xy: np.ndarray, vidx: np.ndarray) -> tuple[float, float]:
+    """Median vertex spacing and the robust scatter of the vertices about a smooth line [m].
+
+    For every vertex with a neighbour on each side in the same part, ``d`` is its distance
+    from the chord of its neighbours. On a smooth, well-sampled line ``d = kappa l^2 / 2`` is
+    tiny; on a staircase or noisy digitising each vertex is off the line by an independent
+    error n (standard deviation a), and ``d = n_k - (n_{k-1} + n_{k+1}) / 2`` has variance
+    ``1.5 a^2``. The robust estimate is ``a = sqrt(median(d^2) / (0.455 x 1.5))`` (0.455 is the
+    median of a chi-square variable of one degree of freedom). Returns NaN, NaN for a coast
+    with fewer than 5 such vertices.
+    """
+    xy = np.asarray(xy, dtype=float)
+    ok = (vidx[1:-1] == vidx[:-2]) & (vidx[1:-1] == vidx[2:])
+    if ok.sum() < 5:
+        return float("nan"), float("nan")
+    a, b, c = xy[:-2][ok], xy[1:-1][ok], xy[2:][ok]
+    chord = c - a
+    lc = np.hypot(*chord.T)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        d = np.abs(chord[:, 0] * (b - a)[:, 1] - chord[:, 1] * (b - a)[:, 0]) / lc
+    seg = np.hypot(*(b - a).T)
+    good = np.isfinite(d) & (lc > 0)
+    if good.sum() < 5:
+        return float("nan"), float("nan")
+    return float(np.median(seg[good])), float(np.sqrt(np.median(d[good] ** 2) / (0.455 * 1.5)))
 
 
 _TYPE_NAMES = {
@@ -967,7 +1009,7 @@ def lay_out_transects(
 
     shore = _ChainedParts(xy, vidx, g, start, end, length)
     half, capped, window_used, noise_deg = _choose_window(
-        shore, part, chain, closed, length, window, spacing, notes
+        coast, spacing, window, closed, length, notes
     )
     if len(capped):
         notes.append(
@@ -1028,13 +1070,6 @@ AUTO_WINDOWS_M = (1000.0, 1500.0, 2000.0, 3000.0, 4000.0, 6000.0, 8000.0, 12000.
 #: Samples each side of a transect in the orientation fit (they span half the window).
 _FIT_HALF_SAMPLES = 30
 
-#: Transects whose noise is measured when choosing a window (an even subsample of the coast).
-_NOISE_SAMPLE = 20000
-
-#: Robust std of (fit at W - fit at 2W) over the std of the fit at W, for white digitising
-#: noise: sqrt(1 + 2^-3 - 2 (5/2)^-3/2) = 0.787 (Gaussian derivative filters, see methods).
-_NOISE_RATIO = 0.787
-
 
 def _half_window(window: float, closed: np.ndarray, length: np.ndarray) -> np.ndarray:
     """Per part: half the orientation window [m]; on rings the window is capped at half the ring."""
@@ -1080,55 +1115,61 @@ def _fitted_tangent(shore, part, chain, half, is_closed, length):
     return dx, dy
 
 
-def _orientation_noise_deg(shore, part, chain, closed, length, window: float) -> float:
-    """Residual orientation noise [deg] of the fit at ``window``, estimated from the data.
+def orientation_noise_deg(vertex_spacing_m: float, vertex_noise_m: float, window_m) -> float:
+    """Orientation noise [deg] the fit at ``window_m`` leaves of the line's digitising scatter.
 
-    The tangent azimuth fitted at ``window`` and at twice it differ by the noise the shorter
-    window leaves (features longer than both windows cancel); the robust standard deviation
-    of that difference (1.4826 x the median absolute deviation) over :data:`_NOISE_RATIO` is
-    the estimate. Isolated real features (a cape, an inlet) barely move a median.
+    For vertices ``l`` apart, each off the smooth line by an independent error of standard
+    deviation ``a`` (see :func:`vertex_noise`), the slope of a Gaussian-weighted straight-line
+    fit (sigma = :data:`SIGMA_PER_WINDOW` x window) has the standard deviation
+
+        sigma_theta = a sqrt(l / (4 sqrt(pi) sigma^3))   [rad]
+
+    (weighted least squares: ``var = a^2 l int w^2 u^2 du / (int w u^2 du)^2``). A real
+    planform (bays, capes) does not enter: only the vertex-to-vertex scatter does.
+
+    Examples
+    --------
+    >>> round(orientation_noise_deg(120.0, 40.0, 4000.0), 2)  # a coarse staircase, 4 km
+    0.42
     """
-    if len(part) == 0:
+    if not (np.isfinite(vertex_spacing_m) and np.isfinite(vertex_noise_m)):
         return 0.0
-    sub = np.unique(np.linspace(0, len(part) - 1, min(len(part), _NOISE_SAMPLE)).astype(int))
-    p, c, ring, ln = part[sub], chain[sub], closed[part[sub]], length[part[sub]]
-    az = []
-    for w in (window, 2.0 * window):
-        dx, dy = _fitted_tangent(shore, p, c, _half_window(w, closed, length)[p], ring, ln)
-        az.append(np.degrees(np.arctan2(dx, dy)))
-    r = (az[0] - az[1] + 180.0) % 360.0 - 180.0
-    r = r[np.isfinite(r)]
-    if r.size < 5:
-        return 0.0
-    mad = np.median(np.abs(r - np.median(r)))
-    return float(1.4826 * mad / _NOISE_RATIO)
+    sigma = SIGMA_PER_WINDOW * np.asarray(window_m, dtype=float)
+    rad = vertex_noise_m * np.sqrt(vertex_spacing_m / (4.0 * np.sqrt(np.pi) * sigma**3))
+    return float(np.degrees(rad))
 
 
-def _choose_window(shore, part, chain, closed, length, window, spacing, notes):
+def _choose_window(coast, spacing, window, closed, length, notes):
     """The orientation window: as given, or chosen from the data ("auto"); warn on noise.
 
-    Returns ``(half window per part, capped ring parts, window used, noise estimate [deg])``.
+    "auto" takes the shortest window of :data:`AUTO_WINDOWS_M` (at least 4 spacings) whose
+    orientation noise (:func:`orientation_noise_deg`) is under
+    :data:`ORIENTATION_NOISE_TOL_DEG`. Returns ``(half window per part, capped ring parts,
+    window used, noise estimate [deg])``.
     """
     tol = ORIENTATION_NOISE_TOL_DEG
+    l_m, a_m = coast.vertex_spacing_m, coast.vertex_noise_m
+    if not (np.isfinite(l_m) and np.isfinite(a_m)):  # not measured when read: the parts' own
+        xy, vidx = shapely.get_coordinates(np.asarray(coast.parts, dtype=object), return_index=True)
+        l_m, a_m = vertex_noise(xy, vidx)
     if window == "auto":
         ladder = [w for w in AUTO_WINDOWS_M if w >= 4.0 * spacing] or [4.0 * spacing]
         for used in ladder:
-            noise = _orientation_noise_deg(shore, part, chain, closed, length, used)
+            noise = orientation_noise_deg(l_m, a_m, used)
             if noise <= tol:
                 break
     else:
         used = float(window)
-        noise = _orientation_noise_deg(shore, part, chain, closed, length, used)
+        noise = orientation_noise_deg(l_m, a_m, used)
     if noise > tol:
-        # white digitising noise after a Gaussian-derivative filter falls as window^(-3/2)
-        better = used * (noise / tol) ** (2.0 / 3.0)
-        better = 500.0 * np.ceil(better / 500.0)
+        # the noise falls as window^(-3/2)
+        better = 500.0 * np.ceil(used * (noise / tol) ** (2.0 / 3.0) / 500.0)
         notes.append(
-            f"the digitised line is noisy at this orientation window: its shore orientation "
-            f"still wanders by about {noise:.1f} deg (robust std, against a window twice as "
-            f"long) at orientation_window_m = {used:g} m, more than the {tol:g} deg the "
-            "transport needs (a staircase or digitising noise, not a planform): expect "
-            f"spurious alternating rates; a window of about {better:g} m would bring it under "
+            f"the digitised line is too coarse for orientation_window_m = {used:g} m: its "
+            f"vertices ({l_m:.0f} m apart) scatter by about {a_m:.0f} m about a smooth line "
+            f"(a staircase or digitising noise), which leaves about {noise:.1f} deg of noise in "
+            f"the shore orientation, more than the {tol:g} deg the transport needs; expect "
+            f"spurious alternating rates: a window of about {better:g} m would bring it under "
             f"{tol:g} deg (docs/methods.md, shore orientation)"
         )
     half = _half_window(used, closed, length)

@@ -28,9 +28,10 @@ def coast_xy() -> tuple[np.ndarray, np.ndarray]:
 
     The coast trends toward 120 degrees (east-south-east), so its seaward normal points to
     about 210 degrees, a few degrees east of the dominant swell. From north-west to south-east:
-    a western beach, a low sandy headland (Quillon Head, a cuspate foreland about 70 m
-    seaward of the trend), a bay (Brannock Bay, about 130 m deep) and a long straight beach
-    (Seffery Strand). Digitised north-west to south-east, so the sea is on the right.
+    a western beach, a low sandy headland (Quillon Head, a cuspate foreland: a bump of 70 m
+    amplitude), a bay (Brannock Bay: a dip of 130 m amplitude) and a long straight beach
+    (Seffery Strand). The bumps overlap, so the shape as measured differs from the amplitudes
+    (``measure_demo.py``). Digitised north-west to south-east, so the sea is on the right.
     """
     s = np.arange(0.0, 17000.0 + 1.0, 20.0)  # along the trend
     n = 70.0 * np.exp(-(((s - 4000.0) / 1800.0) ** 2))  # Quillon Head (seaward)

@@ -14,7 +14,7 @@ import os
 import shutil
 import sys
 import uuid
-from collections.abc import Callable
+from collections.abc import Callable, Mapping
 from datetime import datetime, timezone
 from pathlib import Path
 from typing import Any
@@ -26,11 +26,12 @@ import shapely
 from shapely.ops import substring
 
 from shoreline import __version__
-from shoreline.cautions import CAUTION
+from shoreline.cautions import CAUTION, caution_lines
 from shoreline.climate import joint_histogram
 from shoreline.coast import CoastLines, Transects, chainage_positions, interp_extrapolate
 from shoreline.errors import OutputError
 from shoreline.run import RunResult, ScenarioResult
+from shoreline.transport import SECONDS_PER_YEAR
 
 #: Columns of the hotspot layer, in order.
 HOTSPOT_COLUMNS = (
@@ -75,6 +76,96 @@ def key_settings(result: RunResult) -> dict[str, Any]:
     }
 
 
+#: Yearly columns an event's outputs leave out: ``shoreline_shift_m`` and
+#: ``volume_change_m3_per_m`` (which is minus the along-shore gradient of the transport over the
+#: event) say the same for the event.
+EVENT_DROPPED_COLUMNS = ("rate_m_per_yr", "dqdx_m2_per_yr")
+
+
+def is_event(scenario: ScenarioResult) -> bool:
+    """True for a storm event (a scenario with ``duration_h``): its numbers are for the event."""
+    return "shoreline_shift_m" in scenario.columns
+
+
+def event_units(duration_h: float) -> str:
+    """The ``units`` text of an event's settings: every number is for the event, not per year."""
+    return (
+        f"SI; a storm event of {duration_h:g} h: every number is for the event as a whole, "
+        "not per year: shoreline_shift_m [m] and volume_change_m3_per_m [m3/m] over the event, "
+        "q_*_m3 [m3] the volume carried along the shore while it lasts (+ toward increasing "
+        "chainage); shift positive = seaward (accretion)"
+    )
+
+
+def event_columns(columns: Mapping[str, Any], duration_h: float) -> dict[str, Any]:
+    """An event's columns in the event's units: what every writer writes for a storm event.
+
+    A column ``<name>_m3_per_yr`` (the mean transport rate while the storm lasts, expressed per
+    year) becomes ``<name>_m3``: the volume over the event, rate times duration
+    (``q_cerc_m3``, ``q_gross_m3``, ``trapped_m3``, ...). The yearly rate and gradient
+    (:data:`EVENT_DROPPED_COLUMNS`) are left out. Other columns pass unchanged.
+
+    Raises
+    ------
+    ValueError
+        For any other column per year, which has no event unit here yet.
+
+    Examples
+    --------
+    >>> cols = event_columns({"q_cerc_m3_per_yr": np.array([8766.0]), "rate_m_per_yr": 1.0}, 1)
+    >>> {k: v.tolist() for k, v in cols.items()}
+    {'q_cerc_m3': [1.0]}
+    """
+    years = duration_h * 3600.0 / SECONDS_PER_YEAR
+    out: dict[str, Any] = {}
+    for name, values in columns.items():
+        if name in EVENT_DROPPED_COLUMNS:
+            continue
+        if name.endswith("_m3_per_yr"):
+            out[name.removesuffix("_per_yr")] = np.asarray(values, dtype=float) * years
+        elif "per_yr" in name:
+            raise ValueError(f"column {name!r} has no unit for a storm event (see event_columns)")
+        else:
+            out[name] = values
+    return out
+
+
+def _plain_zero(values: Any) -> Any:
+    """Float arrays with -0.0 written as 0.0 (other values unchanged)."""
+    array = np.asarray(values)
+    return array + 0.0 if array.dtype.kind == "f" else values
+
+
+def layer_columns(scenario: ScenarioResult) -> dict[str, Any]:
+    """The transect columns of a scenario as every writer writes them.
+
+    A storm event's columns in the event's units (:func:`event_columns`); no negative zeros;
+    ``hotspot_id`` a nullable integer, NULL (empty in CSV) where the transect is in no hotspot.
+    """
+    columns = dict(scenario.columns)
+    if is_event(scenario):
+        columns = event_columns(columns, scenario.info["event_duration_h"])
+    out = {name: _plain_zero(values) for name, values in columns.items()}
+    if "hotspot_id" in out:
+        ids = np.asarray(out["hotspot_id"], dtype="int64")
+        out["hotspot_id"] = pd.arrays.IntegerArray(ids, mask=ids < 0)
+    return out
+
+
+def scenario_settings(result: RunResult, scenario: ScenarioResult) -> dict[str, Any]:
+    """:func:`key_settings` of one scenario; an event's speak of the event, not of years."""
+    settings = key_settings(result) | {"scenario": scenario.name}
+    if is_event(scenario):
+        duration_h = scenario.info["event_duration_h"]
+        del settings["stable_band_m_per_yr"]
+        settings |= {
+            "event_stable_band_m": result.study.settings["classify"]["event_stable_band_m"],
+            "duration_h": duration_h,
+            "units": event_units(duration_h),
+        }
+    return settings
+
+
 def crs_label(crs: Any) -> str:
     """``EPSG:nnnn`` where the CRS has a code, else its name."""
     code = crs.to_epsg()
@@ -114,7 +205,7 @@ def _jsonable(value: Any) -> Any:
     if isinstance(value, (np.integer,)):
         return int(value)
     if isinstance(value, (float, np.floating)):
-        v = float(value)
+        v = float(value) + 0.0  # no negative zero
         return v if math.isfinite(v) else None
     if isinstance(value, Path):
         return str(value)
@@ -176,8 +267,7 @@ def transect_frame(
 ) -> gpd.GeoDataFrame:
     """The transect layer of one scenario, in the working CRS."""
     t = result.transects
-    columns = {k: np.asarray(v) for k, v in scenario.columns.items()}
-    return gpd.GeoDataFrame(columns, geometry=t.lines(length_m), crs=t.working_crs)
+    return gpd.GeoDataFrame(layer_columns(scenario), geometry=t.lines(length_m), crs=t.working_crs)
 
 
 def hotspot_frame(result: RunResult, scenario: ScenarioResult) -> gpd.GeoDataFrame:
@@ -197,7 +287,8 @@ def hotspot_frame(result: RunResult, scenario: ScenarioResult) -> gpd.GeoDataFra
         {"hotspot_id": "int64", "part_id": "int64", "class": "str"}
         | {c: "float64" for c in HOTSPOT_COLUMNS[3:]}
     )
-    if "shoreline_shift_m" in scenario.columns:  # a storm event: hotspots of shoreline shift
+    frame[list(HOTSPOT_COLUMNS[3:])] += 0.0  # no negative zero
+    if is_event(scenario):  # a storm event: hotspots of shoreline shift
         frame = frame.rename(columns=EVENT_HOTSPOT_NAMES)
     return gpd.GeoDataFrame(frame, geometry=gpd.GeoSeries(geoms, crs=result.transects.working_crs))
 
@@ -207,16 +298,19 @@ def structure_frame(result: RunResult, scenario: ScenarioResult) -> gpd.GeoDataF
     st = result.structures
     trap = scenario.trapping
     zeros = np.zeros(len(st))
+    columns = {
+        "structure_id": st.structure_id,
+        "part_id": st.part_id,
+        "chainage_m": st.chainage_m,
+        "bypass": st.bypass,
+        "q_arriving_m3_per_yr": trap.q_arriving_m3_per_yr if trap else zeros,
+        "q_passing_m3_per_yr": trap.q_passing_m3_per_yr if trap else zeros,
+        "trapped_m3_per_yr": trap.trapped_m3_per_yr if trap else zeros,
+    }
+    if is_event(scenario):  # volumes over the event (q_arriving_m3, ...)
+        columns = event_columns(columns, scenario.info["event_duration_h"])
     return gpd.GeoDataFrame(
-        {
-            "structure_id": st.structure_id,
-            "part_id": st.part_id,
-            "chainage_m": st.chainage_m,
-            "bypass": st.bypass,
-            "q_arriving_m3_per_yr": trap.q_arriving_m3_per_yr if trap else zeros,
-            "q_passing_m3_per_yr": trap.q_passing_m3_per_yr if trap else zeros,
-            "trapped_m3_per_yr": trap.trapped_m3_per_yr if trap else zeros,
-        },
+        {name: _plain_zero(values) for name, values in columns.items()},
         geometry=list(st.lines),
         crs=result.transects.working_crs,
     )
@@ -236,15 +330,81 @@ def shoreline_frame(result: RunResult) -> gpd.GeoDataFrame:
     )
 
 
+#: The plain-text file beside the tables of each scenario folder: the caution and settings that
+#: a CSV file cannot carry without breaking its readers.
+README_NAME = "README.txt"
+
+
+def write_about(gpkg: Path, settings: dict[str, Any]) -> None:
+    """Add the ``about`` table (the caution and the settings) to a GeoPackage."""
+    import pyogrio
+
+    about = pd.DataFrame(
+        {"key": ["caution", "settings"], "value": [CAUTION, json.dumps(_jsonable(settings))]}
+    )
+    pyogrio.write_dataframe(about, gpkg, layer="about", driver="GPKG")
+
+
+def write_csv(path: Path, table: pd.DataFrame) -> None:
+    """Write a plain CSV table: one header row, no comment lines, no negative zeros.
+
+    Floats are written to 6 significant figures; a column already formatted as text (lon/lat
+    to 7 decimals) is written as it is; missing values are empty cells.
+    """
+    table = table.copy()
+    floats = table.select_dtypes("float").columns
+    table[floats] = table[floats] + 0.0
+    table.to_csv(path, index=False, float_format="%.6g", encoding="utf-8", lineterminator="\n")
+
+
+def write_readme(path: Path, scenario: ScenarioResult, settings: dict[str, Any]) -> None:
+    """Write the scenario folder's README.txt: the caution, what the tables are, the settings."""
+    lines = [
+        f'Scenario "{scenario.name}": tables written by {settings["tool"]}',
+        "",
+        "CAUTION",
+        *caution_lines(92),
+        "",
+        "The CSV tables of this folder have one header row and no comment lines, so that a",
+        "spreadsheet, pandas or a GIS opens them as they are. This file carries what they",
+        "cannot: the caution above and how they were made (below). The GeoJSON files, the",
+        "GeoPackage (table about), summary.json and the figures carry the caution themselves.",
+        "",
+        "transects.csv     one row per transect: the properties of transects.geojson, with",
+        "                  lon_deg, lat_deg of its shore point (WGS 84, to 1e-7 degree)",
+        "wave_climate.csv  hours of offshore waves by 10-degree direction sector and height class",
+        "",
+    ]
+    if is_event(scenario):
+        duration_h = scenario.info["event_duration_h"]
+        lines += [
+            f"A STORM EVENT of {duration_h:g} h: every number here is for the event as a whole,",
+            "not per year: shoreline_shift_m [m] and volume_change_m3_per_m [m3/m] over the",
+            "event; q_<formula>_m3, q_gross_m3, q_pos_m3, q_neg_m3 [m3]: the volume carried",
+            "along the shore past each transect while the storm lasts.",
+            "",
+        ]
+    lines += [
+        "Every column is explained in docs/outputs.md of the shoreline tool.",
+        "",
+        "Settings:",
+        json.dumps(_jsonable(settings), indent=2, ensure_ascii=False),
+    ]
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+
+
 def write_scenario(folder: Path, result: RunResult, scenario: ScenarioResult) -> list[Path]:
-    """Write one scenario's layers, CSV, wave climate and summary into ``folder``."""
+    """Write one scenario's layers, CSV, wave climate, README.txt and summary into ``folder``.
+
+    A storm event's files speak in the event's units (:func:`layer_columns`).
+    """
     folder.mkdir(parents=True, exist_ok=True)
     st = result.study.settings
     length = st["coast"]["transect_length_m"]
     transects = transect_frame(result, scenario, length)
     hotspots = hotspot_frame(result, scenario)
     shore = shoreline_frame(result)
-    settings = key_settings(result) | {"scenario": scenario.name}
+    settings = scenario_settings(result, scenario)
     members = {"name": "", "caution": CAUTION, "settings": settings}
     written = []
     for name, frame in (("transects", transects), ("hotspots", hotspots)):
@@ -260,33 +420,30 @@ def write_scenario(folder: Path, result: RunResult, scenario: ScenarioResult) ->
         layers.append(("structures", frame))
     gpkg = folder / "results.gpkg"
     for name, frame in layers:
-        frame.to_file(gpkg, layer=name, driver="GPKG", engine="pyogrio")
-    about = pd.DataFrame(
-        {"key": ["caution", "settings"], "value": [CAUTION, json.dumps(_jsonable(settings))]}
-    )
-    import pyogrio
-
-    pyogrio.write_dataframe(about, gpkg, layer="about", driver="GPKG")
+        # an empty layer still declares its geometry type (the fields come from the columns)
+        kind = {"geometry_type": "LineString"} if frame.empty else {}
+        frame.to_file(gpkg, layer=name, driver="GPKG", engine="pyogrio", **kind)
+    write_about(gpkg, settings)
     written.append(gpkg)
     csv_path = folder / "transects.csv"
     origin = gpd.GeoSeries(
         shapely.points(result.transects.x_m, result.transects.y_m),
         crs=result.transects.working_crs,
     ).to_crs(4326)
-    table = pd.DataFrame(scenario.columns)
-    table.insert(3, "lon_deg", np.round(origin.x.to_numpy(), 7))
-    table.insert(4, "lat_deg", np.round(origin.y.to_numpy(), 7))
-    with open(csv_path, "w", encoding="utf-8", newline="") as handle:
-        handle.write(f"# {CAUTION}\n")
-        handle.write(f"# {json.dumps(_jsonable(settings))}\n")
-        table.to_csv(handle, index=False, float_format="%.6g")
+    table = pd.DataFrame(layer_columns(scenario))
+    table.insert(3, "lon_deg", [f"{v:.7f}" for v in origin.x.to_numpy()])
+    table.insert(4, "lat_deg", [f"{v:.7f}" for v in origin.y.to_numpy()])
+    write_csv(csv_path, table)
     written.append(csv_path)
     climate_path = folder / "wave_climate.csv"
-    pd.DataFrame(
+    climate = pd.DataFrame(
         joint_histogram(scenario.climate),
         columns=["dir_from_deg_lo", "dir_from_deg_hi", "hs_m_lo", "hs_m_hi", "hours"],
-    ).to_csv(climate_path, index=False, float_format="%.6g")
+    )
+    write_csv(climate_path, climate)
     written.append(climate_path)
+    write_readme(folder / README_NAME, scenario, settings)
+    written.append(folder / README_NAME)
     write_json(folder / "summary.json", scenario_summary(result, scenario))
     written.append(folder / "summary.json")
     if "scenario" in scenario.info:
@@ -343,14 +500,22 @@ def scenario_summary(result: RunResult, scenario: ScenarioResult) -> dict[str, A
             "hs_max_m": float(c.hs_m.max()),
         }
     waves_info["depth_m"] = "deep" if math.isinf(c.depth_m) else c.depth_m
-    rate = scenario.columns["rate_m_per_yr"]
-    worst = int(np.nanargmin(rate)) if np.isfinite(rate).any() else 0
+    event = is_event(scenario)
+    # an event's strongest erosion is its most negative shoreline shift over the event [m]
+    key, column = ("shift_m", "shoreline_shift_m") if event else ("rate_m_per_yr", "rate_m_per_yr")
+    metric = scenario.columns[column]
+    worst = int(np.nanargmin(metric)) if np.isfinite(metric).any() else 0
     crs = result.transects.working_crs
+    bands = (
+        {"duration_h": scenario.info["event_duration_h"]}
+        if event
+        else {"stable_band_m_per_yr": st["classify"]["stable_band_m_per_yr"]}
+    )
     return {
         "scenario": scenario.name,
         "primary": st["model"]["primary"],
         "formulas": st["model"]["formulas"],
-        "stable_band_m_per_yr": st["classify"]["stable_band_m_per_yr"],
+        **bands,
         "min_hotspot_length_m": st["classify"]["min_hotspot_length_m"],
         "closure_depth_m": float(np.mean(scenario.closure_depth_m)),
         "closure_depth_range_m": [
@@ -365,13 +530,13 @@ def scenario_summary(result: RunResult, scenario: ScenarioResult) -> dict[str, A
         "n_transects": len(result.transects),
         "hotspots": counts,
         "strongest_erosion": {
-            "rate_m_per_yr": float(rate[worst]),
+            key: float(metric[worst]),
             "transect_id": int(scenario.columns["transect_id"][worst]),
             "part_id": int(scenario.columns["part_id"][worst]),
             "chainage_m": float(scenario.columns["chainage_m"][worst]),
         },
         "waves": waves_info,
-        "event": "shoreline_shift_m" in scenario.columns,
+        "event": event,
         "info": scenario.info,
         "caution": CAUTION,
     }
@@ -489,6 +654,7 @@ def write_transects_only(
     def build(tmp: Path) -> None:
         write_geojson(tmp / "transects.geojson", frame, members)
         frame.to_file(tmp / "transects.gpkg", layer="transects", driver="GPKG")
+        write_about(tmp / "transects.gpkg", settings)
 
     publish(build, out_dir)
     return paths

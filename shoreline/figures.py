@@ -7,7 +7,11 @@ matplotlib's object interface on the Agg canvas (no pyplot state, nothing left o
 
 Every figure is meant to read in grey print as well as in colour: signs and classes are carried
 by line style, hatching, markers and labels ("E1" erosion hotspot, "A2" accretion hotspot), not
-by hue alone. Each figure carries a short footer pointing to the cautions in the report.
+by hue alone. Each figure carries a short footer pointing to the cautions in the report, and
+the full caution in its PNG metadata (text chunk "Disclaimer").
+
+A storm event's layers speak in the event's units (shoreline shift [m], transport as the volume
+over the event [m3], see :func:`shoreline.export.event_columns`); so do its figures.
 """
 
 from __future__ import annotations
@@ -20,6 +24,7 @@ from pathlib import Path
 
 import numpy as np
 
+from shoreline.cautions import CAUTION
 from shoreline.errors import OutputError
 
 __all__ = [
@@ -51,8 +56,10 @@ _SHELTERED_GREY = "0.62"
 _EROSION_FILL = "#f4c7b8"
 _ACCRETION_FILL = "#bcd7ea"
 
-_TRANSECT_COLUMNS = ("part_id", "chainage_m", "rate_m_per_yr", "class")
-#: q_<name>_m3_per_yr columns that are not formulas (gross and one-way components).
+_TRANSECT_COLUMNS = ("part_id", "chainage_m", "class")
+#: The shoreline value of a transect: a yearly rate, or a storm event's shift.
+_METRIC_COLUMNS = ("rate_m_per_yr", "shoreline_shift_m")
+#: q_<name>_m3_per_yr (event: q_<name>_m3) columns that are not formulas (gross and one-way).
 _NOT_FORMULAS = frozenset({"gross", "pos", "neg"})
 _WAVE_COLUMNS = ("dir_from_deg_lo", "dir_from_deg_hi", "hs_m_lo", "hs_m_hi", "hours")
 
@@ -151,6 +158,8 @@ def read_scenario(scenario_dir: str | os.PathLike) -> ScenarioData:
     else:
         hotspots = gpd.GeoDataFrame(geometry=[], crs=transects.crs)
     missing = [c for c in _TRANSECT_COLUMNS if c not in transects.columns]
+    if not any(c in transects.columns for c in _METRIC_COLUMNS):
+        missing.append(" or ".join(_METRIC_COLUMNS))
     if missing:
         raise OutputError(f"{gpkg}: layer 'transects' lacks column(s) {', '.join(missing)}")
     transects = transects.sort_values(["part_id", "chainage_m"], kind="stable")
@@ -420,7 +429,7 @@ def _save(fig, path: Path, dpi: int) -> Path:
             dpi=dpi,
             format="png",
             facecolor="white",
-            metadata={"Software": f"shoreline {__version__} (matplotlib)"},
+            metadata={"Software": f"shoreline {__version__} (matplotlib)", "Disclaimer": CAUTION},
         )
         os.replace(tmp, path)
     except OSError as exc:
@@ -450,6 +459,8 @@ class Metric:
         Half-width of the stable band in that unit (NaN when unknown).
     event : bool
         True for a storm event.
+    legend : str
+        Short name with unit for legends ("shoreline shift [m]").
     """
 
     column: str
@@ -458,6 +469,7 @@ class Metric:
     unit: str
     band: float
     event: bool
+    legend: str = ""
 
 
 def scenario_metric(data: ScenarioData) -> Metric:
@@ -474,10 +486,24 @@ def scenario_metric(data: ScenarioData) -> Metric:
         if not np.isfinite(band):
             band = _event_band_from_run(data.folder.parent / "run.json")
         return Metric(
-            "shoreline_shift_m", SHIFT_LABEL, "Shoreline shift over the storm", "m", band, True
+            "shoreline_shift_m",
+            SHIFT_LABEL,
+            "Shoreline shift over the storm",
+            "m",
+            band,
+            True,
+            "shoreline shift [m]",
         )
     band = _positive_or_nan(data.summary.get("stable_band_m_per_yr"))
-    return Metric("rate_m_per_yr", RATE_LABEL, "Shoreline change rate", "m/yr", band, False)
+    return Metric(
+        "rate_m_per_yr",
+        RATE_LABEL,
+        "Shoreline change rate",
+        "m/yr",
+        band,
+        False,
+        "shoreline change rate [m/yr]",
+    )
 
 
 def _positive_or_nan(value) -> float:
@@ -606,7 +632,7 @@ def _map_figure(data: ScenarioData):
         if mid is None or mid.is_empty:
             continue
         hid = int(hot.get("hotspot_id", 0))
-        members = live & (tr["hotspot_id"].to_numpy(int) == hid) if "hotspot_id" in tr else None
+        members = live & (_hotspot_ids(tr) == hid) if "hotspot_id" in tr else None
         if members is None or not members.any():
             dist = np.hypot(start[:, 0] - mid.x, start[:, 1] - mid.y)
             finite = np.isfinite(dist)
@@ -732,7 +758,7 @@ def _map_figure(data: ScenarioData):
             color=cmap(0.1),
             lw=2.4,
             label=f"transect, coloured by {'shift' if metric.event else 'rate'} "
-            "(equal-length tick)",
+            f"[{metric.unit}] (equal ticks)",
         ),
         Line2D([], [], color="black", lw=4, label="erosion hotspot (E#)"),
         Line2D([], [], color="black", lw=4, ls=(0, (1.2, 0.7)), label="accretion hotspot (A#)"),
@@ -771,6 +797,13 @@ def _map_figure(data: ScenarioData):
     ax.set_title(f"{metric.title} \u2014 scenario \u201c{data.name}\u201d", fontsize=12)
     _footer(fig)
     return fig
+
+
+def _hotspot_ids(transects) -> np.ndarray:
+    """The transects' hotspot ids as integers, -1 where the layer has NULL (no hotspot)."""
+    import pandas as pd
+
+    return pd.to_numeric(transects["hotspot_id"], errors="coerce").fillna(-1).to_numpy(int)
 
 
 def _every_kth(parts: np.ndarray, xy: np.ndarray, min_spacing_m: float) -> np.ndarray:
@@ -977,14 +1010,28 @@ def _shade_band_and_hotspots(ax, data: ScenarioData, layout, labels: bool = True
     return handles
 
 
+def _transport_suffix(data: ScenarioData) -> str:
+    """``_m3`` for a storm event's volumes over the event, else ``_m3_per_yr``.
+
+    An event folder written before events had their own units has ``_m3_per_yr`` columns.
+    """
+    if scenario_metric(data).event and any(
+        c.startswith("q_") and c.endswith("_m3") for c in data.transects.columns
+    ):
+        return "_m3"
+    return "_m3_per_yr"
+
+
 def _transport_columns(data: ScenarioData) -> list[tuple[str, str]]:
     """Return (formula name, column) pairs, the primary formula first.
 
     The formulas are those ``summary.json`` lists; without that list, every
-    ``q_<name>_m3_per_yr`` column except the gross and one-way components.
+    ``q_<name>_m3_per_yr`` column (storm event: ``q_<name>_m3``) except the gross and one-way
+    components.
     """
-    cols = [c for c in data.transects.columns if c.startswith("q_") and c.endswith("_m3_per_yr")]
-    names = {c[2 : -len("_m3_per_yr")]: c for c in cols}
+    suffix = _transport_suffix(data)
+    cols = [c for c in data.transects.columns if c.startswith("q_") and c.endswith(suffix)]
+    names = {c[2 : -len(suffix)]: c for c in cols}
     listed = [str(n) for n in data.summary.get("formulas", []) or [] if str(n) in names]
     order = listed or sorted(n for n in names if n not in _NOT_FORMULAS)
     primary = str(data.summary.get("primary", order[0] if order else ""))
@@ -1023,7 +1070,7 @@ def _sheltered_rug(ax, data: ScenarioData, layout) -> list:
             ms=8,
             mew=1.2,
             color="0.45",
-            label="sheltered transect (no rate)",
+            label=f"sheltered transect (no {'shift' if scenario_metric(data).event else 'rate'})",
         )
     ]
 
@@ -1049,17 +1096,20 @@ def _alongshore_figure(data: ScenarioData):
         for j, (x, q) in enumerate(_part_lines(tr, layout, column)):
             ax_q.plot(x, q / 1000.0, label=label if j == 0 else None, **style)
     ax_q.axhline(0.0, color="0.4", lw=0.8, zorder=0.6)
-    during = " while the storm lasts" if scenario_metric(data).event else ""
-    ax_q.set_ylabel(
-        f"Net longshore transport{during}\n[10\u00b3 m\u00b3/yr] (+ toward higher chainage)"
-    )
+    if _transport_suffix(data) == "_m3":  # a storm event: the volume carried over the storm
+        unit = "Net longshore transport over the storm\n[10\u00b3 m\u00b3]"
+    elif scenario_metric(data).event:  # an event folder written with yearly names
+        unit = "Net longshore transport while the storm lasts\n[10\u00b3 m\u00b3/yr]"
+    else:
+        unit = "Net longshore transport\n[10\u00b3 m\u00b3/yr]"
+    ax_q.set_ylabel(f"{unit} (+ toward higher chainage)")
     if formulas:
         ax_q.legend(loc="best", fontsize=8, framealpha=0.9)
     else:
         ax_q.text(
             0.5,
             0.5,
-            "no transport columns (q_<formula>_m3_per_yr) in the file",
+            f"no transport columns (q_<formula>{_transport_suffix(data)}) in the file",
             transform=ax_q.transAxes,
             ha="center",
             va="center",
@@ -1077,7 +1127,7 @@ def _alongshore_figure(data: ScenarioData):
             marker="o",
             ms=2.2,
             zorder=3,
-            label="shoreline change rate" if j == 0 else None,
+            label=metric.legend if j == 0 else None,
         )
     ax_r.axhline(0.0, color="0.4", lw=0.8, zorder=0.6)
     handles += _sheltered_rug(ax_r, data, layout)
@@ -1093,9 +1143,8 @@ def _alongshore_figure(data: ScenarioData):
     ax_r.set_ylabel(metric.label.replace(" (", "\n("))
     ax_r.grid(True, axis="y", color="0.85", lw=0.6)
     _part_axis([ax_q, ax_r], layout)
-    fig.suptitle(
-        f"Along-shore transport and shoreline change \u2014 scenario \u201c{data.name}\u201d"
-    )
+    change = "shoreline shift over the storm" if metric.event else "shoreline change"
+    fig.suptitle(f"Along-shore transport and {change} \u2014 scenario \u201c{data.name}\u201d")
     _footer(fig)
     return fig
 
@@ -1244,7 +1293,7 @@ def _vs_reference_figure(data: ScenarioData, base: ScenarioData):
             lw=1.8,
             ls=(0, (5, 2)),
             zorder=3,
-            label=base_label if j == 0 else None,
+            label=f"{base_label}: {base_metric.legend}" if j == 0 else None,
         )
     for j, (x, r) in enumerate(_part_lines(data.transects, layout, metric.column)):
         ax_scen.plot(
@@ -1255,7 +1304,7 @@ def _vs_reference_figure(data: ScenarioData, base: ScenarioData):
             marker="o",
             ms=2.2,
             zorder=4,
-            label=f"scenario \u201c{data.name}\u201d" if j == 0 else None,
+            label=f"scenario \u201c{data.name}\u201d: {metric.legend}" if j == 0 else None,
         )
     if not same and np.isfinite(base_metric.band) and base_metric.band > 0:
         ax_base.axhspan(-base_metric.band, base_metric.band, fc="0.88", ec="none", zorder=0)

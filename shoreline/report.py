@@ -97,6 +97,14 @@ _METHOD_PARAGRAPHS = (
     "metres instead of a rate. Values within the stable band count as stable; runs of eroding "
     "or accreting transects at least the minimum hotspot length long are hotspots "
     "(E = erosion, A = accretion).",
+    "<strong>Storm events.</strong> A scenario with a duration is a storm event, and its "
+    "numbers are for the event, not per year: the shoreline shift [m] and the volume change "
+    "[m\u00b3 per m of shore] over the storm, the longshore transport as the volume [m\u00b3] "
+    "carried past each transect while the storm lasts, and hotspot volumes gained or lost over "
+    "the storm [m\u00b3]. Its files use the same names (<code>shoreline_shift_m</code>, "
+    "<code>q_cerc_m3</code>, <code>volume_m3</code>, \u2026) and carry no yearly rate. "
+    "A storm\u2019s shift is not to be multiplied up to a year, nor compared with a yearly "
+    "rate as if it were one.",
 )
 
 FIGURE_CAPTIONS = {
@@ -112,7 +120,8 @@ FIGURE_CAPTIONS = {
     ),
     "alongshore.png": (
         "Along the shore. Top: net longshore transport of each formula (primary formula solid "
-        "black, others dashed or dotted), positive toward increasing chainage. Bottom: "
+        "black, others dashed or dotted), positive toward increasing chainage (for a storm "
+        "event: the volume carried over the storm). Bottom: "
         "shoreline change rate (for a storm event: the shift over the storm) with the stable "
         "band shaded grey and hotspots hatched (/// erosion, dots accretion). Separate shore "
         "parts are drawn side by side with a gap and a dashed separator; chainage restarts at 0 "
@@ -440,19 +449,22 @@ def _structure_table(data: ScenarioData) -> str:
     frame = read_structures(data.folder)
     if frame is None:
         return ""
+    # a storm event's layer holds volumes over the event (q_arriving_m3, ...)
+    event = "trapped_m3" in frame.columns
+    suffix, unit = ("_m3", "m\u00b3 over the storm") if event else ("_m3_per_yr", "m\u00b3/yr")
     head = (
         "<thead><tr><th>Structure</th><th>Part</th>"
         '<th class="num">Chainage [km]</th><th class="num">Bypass</th>'
-        '<th class="num">Arriving [m\u00b3/yr]</th><th class="num">Passing [m\u00b3/yr]</th>'
-        '<th class="num">Trapped [m\u00b3/yr]</th></tr></thead>'
+        f'<th class="num">Arriving [{unit}]</th><th class="num">Passing [{unit}]</th>'
+        f'<th class="num">Trapped [{unit}]</th></tr></thead>'
     )
     rows = [
         f"<tr><td>{_esc(r.get('structure_id', ''))}</td><td>{_esc(r.get('part_id', ''))}</td>"
         f'<td class="num">{_num(_km(r.get("chainage_m")), 2)}</td>'
         f'<td class="num">{_num(r.get("bypass"), 2)}</td>'
-        f'<td class="num">{_num(r.get("q_arriving_m3_per_yr"), 0, True)}</td>'
-        f'<td class="num">{_num(r.get("q_passing_m3_per_yr"), 0, True)}</td>'
-        f'<td class="num">{_num(r.get("trapped_m3_per_yr"), 0, True)}</td></tr>'
+        f'<td class="num">{_num(r.get("q_arriving" + suffix), 0, True)}</td>'
+        f'<td class="num">{_num(r.get("q_passing" + suffix), 0, True)}</td>'
+        f'<td class="num">{_num(r.get("trapped" + suffix), 0, True)}</td></tr>'
         for _, r in frame.iterrows()
     ]
     return (
@@ -564,8 +576,15 @@ def _render_scenario(data: ScenarioData, reference: ScenarioData | None = None) 
     n_hot = s.get("hotspots") if isinstance(s.get("hotspots"), dict) else {}
     metric = scenario_metric(data)
     info = s.get("info") if isinstance(s.get("info"), dict) else {}
+    shown = _esc(metric.label)
+    if metric.event:
+        shown += (
+            ". <strong>A storm event: every number of this scenario is for the storm as a "
+            "whole, not per year</strong> (shift and volume change over the storm, transport "
+            "as the volume carried while it lasts)."
+        )
     rows = [
-        ("Shown", _esc(metric.label)),
+        ("Shown", shown),
         ("Transects", f"{len(tr)} ({_esc(class_text)})"),
         ("Shore parts", f"{len(shore)}, {_num(length_m / 1000.0, 2)} km in total"),
         (
@@ -587,14 +606,15 @@ def _render_scenario(data: ScenarioData, reference: ScenarioData | None = None) 
         ("Mean seaward normal", f"{_num(s.get('mean_normal_az_deg'), 1)}\u00b0 from true north"),
         ("Working CRS", _esc(s.get("working_crs_name") or s.get("working_crs", "not recorded"))),
     ]
-    worst = s.get("strongest_erosion")
-    if isinstance(worst, dict) and worst:
+    worst = _strongest_erosion(data, metric)
+    if worst:
         rows.append(
             (
                 "Strongest erosion",
-                f"{_num(worst.get('rate_m_per_yr'), 2)} m/yr at transect "
+                f"{_num(worst.get('value'), 2)} {_esc(metric.unit)} at transect "
                 f"{_esc(worst.get('transect_id', '?'))} (part {_esc(worst.get('part_id', '?'))}, "
-                f"chainage {_num(_km(worst.get('chainage_m')), 2)} km)",
+                f"chainage {_num(_km(worst.get('chainage_m')), 2)} km)"
+                + (" over the storm" if metric.event else ""),
             )
         )
     waves = s.get("waves")
@@ -641,6 +661,34 @@ def _render_scenario(data: ScenarioData, reference: ScenarioData | None = None) 
         )
     parts.append("</section>")
     return "".join(parts)
+
+
+def _strongest_erosion(data: ScenarioData, metric) -> dict:
+    """``value`` (in the metric's unit), transect, part and chainage of the strongest erosion.
+
+    From ``summary.json`` (``shift_m`` for a storm event, else ``rate_m_per_yr``); for an
+    event folder written before events had their own units, the most negative shift in the
+    transect layer. Empty when unknown.
+    """
+    worst = data.summary.get("strongest_erosion")
+    if not isinstance(worst, dict) or not worst:
+        return {}
+    key = "shift_m" if metric.event else "rate_m_per_yr"
+    if key in worst:
+        return worst | {"value": worst[key]}
+    tr = data.transects
+    if not metric.event or metric.column not in tr.columns:
+        return {}
+    values = tr[metric.column].to_numpy(float)
+    if not np.isfinite(values).any():
+        return {}
+    row = tr.iloc[int(np.nanargmin(values))]
+    return {
+        "value": values[int(np.nanargmin(values))],
+        "transect_id": row.get("transect_id", "?"),
+        "part_id": row.get("part_id", "?"),
+        "chainage_m": row.get("chainage_m"),
+    }
 
 
 def _render_warnings(run: dict) -> str:

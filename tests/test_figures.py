@@ -15,6 +15,7 @@ from pathlib import Path
 
 import geopandas as gpd
 import numpy as np
+import pandas as pd
 import pytest
 from PIL import Image
 from shapely.geometry import LineString
@@ -140,6 +141,10 @@ def _scenario_frames(scale: float, storm_part1: bool, n_per_part=(30, 10), event
             i = j + 1
         else:
             i += 1
+    # A storm event's layer speaks in the event's units (as shoreline.export writes it):
+    # transport as volumes over the event (q_<name>_m3), shift and volume change, no yearly rate.
+    per = "" if event else "_per_yr"
+    yearly = {} if event else {"dqdx_m2_per_yr": -7.5 * np.nan_to_num(rate), "rate_m_per_yr": rate}
     transects = gpd.GeoDataFrame(
         {
             "transect_id": np.arange(n_tr),
@@ -149,20 +154,20 @@ def _scenario_frames(scale: float, storm_part1: bool, n_per_part=(30, 10), event
             "hb_m": np.where(sheltered, np.nan, 1.2),
             "db_m": np.where(sheltered, np.nan, 1.55),
             "alpha_b_deg": np.where(sheltered, np.nan, 4.0),
-            "q_cerc_m3_per_yr": q_cerc,
-            "q_kamphuis_m3_per_yr": 0.55 * q_cerc,
+            f"q_cerc_m3{per}": q_cerc,
+            f"q_kamphuis_m3{per}": 0.55 * q_cerc,
             # Gross and one-way components are written too; they are not formulas.
-            "q_gross_m3_per_yr": 1.7 * np.abs(q_cerc),
-            "q_pos_m3_per_yr": 1.3 * np.abs(q_cerc),
-            "q_neg_m3_per_yr": -0.4 * np.abs(q_cerc),
-            "dqdx_m2_per_yr": -7.5 * np.nan_to_num(rate),
-            "rate_m_per_yr": rate,
+            f"q_gross_m3{per}": 1.7 * np.abs(q_cerc),
+            f"q_pos_m3{per}": 1.3 * np.abs(q_cerc),
+            f"q_neg_m3{per}": -0.4 * np.abs(q_cerc),
+            **yearly,
             **(
                 {"shoreline_shift_m": shift, "volume_change_m3_per_m": 7.5 * shift} if event else {}
             ),
             "class": cls,
             "sheltered_fraction": np.where(sheltered, 1.0, 0.1),
-            "hotspot_id": hot_id,
+            # NULL where a transect is in no hotspot, as the writers leave it
+            "hotspot_id": pd.array(np.where(hot_id > 0, hot_id, None), dtype="Int64"),
         },
         geometry=[r[3] for r in rows],
         crs=CRS,
@@ -241,11 +246,14 @@ def build_output_folder(
         transects.to_file(gpkg, layer="transects", driver="GPKG")
         hotspots.to_file(gpkg, layer="hotspots", driver="GPKG")
         _wave_climate_csv(folder / "wave_climate.csv", seed=i)
+        metric = transects["shoreline_shift_m" if event else "rate_m_per_yr"].to_numpy(float)
+        worst = int(np.nanargmin(metric))
         summary = {
             "scenario": name,
             "primary": "cerc",
             "formulas": ["cerc", "kamphuis"],
-            "stable_band_m_per_yr": STABLE_BAND,
+            # an event's summary speaks of the event: its duration, not a yearly band
+            **({"duration_h": 36.0} if event else {"stable_band_m_per_yr": STABLE_BAND}),
             "min_hotspot_length_m": 300.0,
             "working_crs": CRS,
             "working_crs_name": CRS_NAME,
@@ -254,6 +262,12 @@ def build_output_folder(
             "hotspots": {
                 "erosion": int((hotspots["class"] == "erosion").sum()),
                 "accretion": int((hotspots["class"] == "accretion").sum()),
+            },
+            "strongest_erosion": {
+                "shift_m" if event else "rate_m_per_yr": float(metric[worst]),
+                "transect_id": int(transects["transect_id"][worst]),
+                "part_id": int(transects["part_id"][worst]),
+                "chainage_m": float(transects["chainage_m"][worst]),
             },
             "waves": {"kind": "record", "hs_m": 0.9, "tp_s": 7.5, "dir_deg": 352.0, "hours": 8784},
             "closure_depth_m": 6.0,
@@ -315,6 +329,8 @@ BASE_NAMES = {"map.png", "alongshore.png", "wave_climate.png"}
 def _check_png(path: Path, dpi: int = 150) -> None:
     with Image.open(path) as img:
         assert img.format == "PNG"
+        # the full caution rides in the PNG's text chunks (the footer is only a pointer)
+        assert img.text["Disclaimer"] == CAUTION
         # matplotlib writes the pHYs chunk; PIL reads it back as dots per inch (pixels per metre
         # are rounded to an integer in the file, hence the small tolerance).
         assert img.info["dpi"][0] == pytest.approx(dpi, abs=0.1)
@@ -371,6 +387,41 @@ def test_storm_event_without_hotspot_layer_draws_shift_and_two_panels(tmp_path: 
     assert scenario_metric(read_scenario(out / "reference")).column == "rate_m_per_yr"
     written = write_figures(folder, reference_dir=out / "reference", dpi=40)  # structure only
     assert {p.name for p in written} == BASE_NAMES | {"vs_reference.png"}
+
+
+def _texts(fig) -> str:
+    """Every text a reader sees on a figure: legends, axis labels, titles (joined)."""
+    from matplotlib.text import Text
+
+    return "\n".join(t.get_text() for t in fig.findobj(Text) if t.get_text())
+
+
+def _legend_texts(fig) -> list[str]:
+    texts = []
+    for legend in fig.legends + [ax.get_legend() for ax in fig.axes if ax.get_legend()]:
+        texts += [t.get_text() for t in legend.get_texts()]
+    return texts
+
+
+def test_storm_event_figures_speak_of_shift_over_the_storm(tmp_path: Path) -> None:
+    from shoreline.figures import _alongshore_figure, _map_figure, _vs_reference_figure
+
+    out = build_output_folder(tmp_path / "o", scenarios=("reference", "event-ne"))
+    data, base = read_scenario(out / "event-ne"), read_scenario(out / "reference")
+    along, mapfig = _alongshore_figure(data), _map_figure(data)
+    vs = _vs_reference_figure(data, base)
+    assert "shoreline shift [m]" in _legend_texts(along)
+    assert not any("rate" in t for t in _legend_texts(along))
+    # the transport panel shows the volumes over the storm, in 10^3 m3 (not per year)
+    assert "over the storm\n[10\u00b3 m\u00b3]" in _texts(along)
+    assert "m\u00b3/yr" not in _texts(along) and "m/yr" not in _texts(along)
+    assert any("coloured by shift [m]" in t for t in _legend_texts(mapfig))
+    assert "m/yr" not in _texts(mapfig)
+    legend = _legend_texts(vs)
+    assert "scenario \u201cevent-ne\u201d: shoreline shift [m]" in legend
+    assert "reference: shoreline change rate [m/yr]" in legend  # the reference keeps its rate
+    # a yearly scenario's figures keep the rate
+    assert "shoreline change rate [m/yr]" in _legend_texts(_alongshore_figure(base))
 
 
 def test_reference_dir_same_as_scenario_draws_no_comparison(out_dir: Path, monkeypatch) -> None:

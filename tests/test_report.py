@@ -323,3 +323,45 @@ def test_report_renders_in_a_headless_browser(report, tmp_path: Path) -> None:
     top = rgb[:600]
     red = (top[..., 0] > 120) & (top[..., 1] < 60) & (top[..., 2] < 60)
     assert red.sum() > 500, "caution border not drawn: inline CSS not applied?"
+
+
+def _section_text(text: str, anchor: str, end: str) -> str:
+    """The visible text of the report between two element ids (tags and images dropped)."""
+    import html as html_module
+    import re
+
+    part = text[text.index(f'id="{anchor}"') : text.index(f'id="{end}"')]
+    part = re.sub(r"data:image/png;base64,[A-Za-z0-9+/=]+", "", part)
+    return " ".join(html_module.unescape(re.sub(r"<[^>]+>", " ", part)).split())
+
+
+def test_storm_event_numbers_are_for_the_event_not_per_year(report) -> None:
+    # A storm event's strongest erosion is its most negative shoreline shift [m] over the
+    # storm, and nothing in its part of the report is a rate per year.
+    summary = json.loads((report["out"] / "event-ne" / "summary.json").read_text("utf-8"))
+    shift = summary["strongest_erosion"]["shift_m"]
+    section = _section_text(report["text"], "scenario-event-ne", "warnings")
+    expected = f"Strongest erosion {shift:.2f} m at transect".replace("-", "\u2212")
+    assert expected in section
+    assert "m/yr" not in section and "per_yr" not in section
+    assert "for the storm as a whole, not per year" in section
+    # the yearly scenarios keep their rate
+    yearly = _section_text(report["text"], "scenario-storm-sw", "scenario-event-ne")
+    assert "m/yr at transect" in yearly
+    method = _section_text(report["text"], "method", "results")
+    assert "numbers are for the event, not per year" in method
+
+
+def test_old_event_folder_takes_its_strongest_erosion_from_the_shift(tmp_path: Path) -> None:
+    # An event folder written before events had their own units recorded a yearly rate as its
+    # strongest erosion; the report shows the most negative shift of the layer instead.
+    out = build_output_folder(tmp_path / "out", scenarios=("reference", "event-ne"))
+    path = out / "event-ne" / "summary.json"
+    summary = json.loads(path.read_text("utf-8"))
+    worst = summary["strongest_erosion"]
+    shift = worst.pop("shift_m")
+    worst["rate_m_per_yr"] = -417.97
+    path.write_text(json.dumps(summary), encoding="utf-8")
+    section = _section_text(write_report(out).read_text("utf-8"), "scenario-event-ne", "warnings")
+    assert f"Strongest erosion {shift:.2f} m at".replace("-", "\u2212") in section
+    assert "417" not in section

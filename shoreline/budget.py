@@ -366,7 +366,8 @@ def face_budget(
       field at the face midpoint from that side's own fit (``i`` before the face, ``j`` after
       it): what the updrift side carries, not an average with a sheltered lee. Arriving
       (gross) ``Q+_i - Q-_j``; passing ``b`` times it; trapped the rest. Only the two cells
-      beside the face change, by equal and opposite volumes: sand is conserved. A structure with ``b = 1`` changes nothing.
+      beside the face change, by equal and opposite volumes: sand is conserved. A structure
+      with ``b = 1`` changes nothing.
     - **Hard reaches** (``hard``: rock, seawalls) cannot erode: along a run of hard transects
       the flux toward increasing chainage may only fall (a running minimum from its upstream
       face) and that toward decreasing chainage likewise, so transport out of the reach is

@@ -565,6 +565,7 @@ def run_record(result: RunResult, command: list[str], started_utc: str) -> dict[
         },
         "timings_s": {k: round(v, 4) for k, v in result.timings_s.items()},
         "warnings": result.warnings,
+        "calibration": result.calibration,
         "scenarios": [s.name for s in result.scenarios],
         "caution": CAUTION,
     }

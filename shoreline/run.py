@@ -15,12 +15,12 @@ import os
 import time
 from collections.abc import Callable
 from concurrent.futures import ThreadPoolExecutor
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field, fields, replace
 from typing import Any
 
 import numpy as np
 
-from shoreline import profile, transport, waves, wind
+from shoreline import calibrate, profile, transport, waves, wind
 from shoreline.budget import (
     Hotspot,
     classify,
@@ -325,6 +325,7 @@ class RunResult:
     timings_s: dict[str, float]
     warnings: list[str]
     structures: Structures | None = None
+    calibration: dict[str, Any] | None = None
 
 
 def load_climate(study: Study) -> WaveClimate:
@@ -406,6 +407,113 @@ def _only_polygons(path, layer) -> bool:
     return str(info.get("geometry_type", "")).lstrip("3D ").startswith(("Polygon", "MultiPolygon"))
 
 
+def base_coefficients(study: Study) -> dict[str, float]:
+    """The coefficient of every formula as the study gives it (CERC K in its Hs form)."""
+    m, s = study["model"], study["sediment"]
+    cerc_k = m["cerc_k"]
+    if cerc_k == "del_valle":
+        cerc_k = float(transport.k_del_valle(s["d50_mm"], height="significant"))
+    return {"cerc": float(cerc_k), "kamphuis": float(m["kamphuis_coefficient"])}
+
+
+def reduce_transport(
+    study: Study,
+    normal_az_deg: np.ndarray,
+    sign: np.ndarray,
+    climate: WaveClimate,
+    coefficients: dict[str, float],
+    **options: Any,
+) -> Reductions:
+    """The time reduction of the transport at the given normals (see transport_reductions)."""
+    m, s = study["model"], study["sediment"]
+    return transport_reductions(
+        normal_az_deg,
+        sign,
+        climate,
+        formulas=m["formulas"],
+        primary=m["primary"],
+        breaker_index=m["breaker_index"],
+        breaking_method=m["breaking"],
+        cerc_k=coefficients["cerc"],
+        kamphuis_coefficient=coefficients["kamphuis"],
+        d50_mm=s["d50_mm"],
+        slope=s["slope"],
+        water_density_kg_m3=m["water_density_kg_m3"],
+        sediment_density_kg_m3=s["density_kg_m3"],
+        porosity=s["porosity"],
+        angle_step_deg=m["angle_step_deg"],
+        **options,
+    )
+
+
+def exposure_rows(exposure: Exposure | None, rows: np.ndarray) -> Exposure | None:
+    """The exposure of some transects only (every per-transect array sliced)."""
+    if exposure is None:
+        return None
+    n = len(exposure)
+    changes = {
+        f.name: getattr(exposure, f.name)[rows]
+        for f in fields(exposure)
+        if isinstance(getattr(exposure, f.name), np.ndarray)
+        and getattr(exposure, f.name).shape[:1] == (n,)
+        and f.name != "directions_deg"
+    }
+    return replace(exposure, **changes)
+
+
+def calibrate_coefficients(
+    study: Study,
+    coast: CoastLines,
+    transects: Transects,
+    climate: WaveClimate,
+    sign: np.ndarray,
+    point_index: np.ndarray,
+    exposure: Exposure | None,
+    structures: Structures | None,
+    eligible: np.ndarray,
+) -> calibrate.Calibration:
+    """Fit every formula's coefficient to the study's known rates (:mod:`shoreline.calibrate`).
+
+    Only the transects of the known rates are evaluated (and, for a structure, both
+    transects beside its face; the updrift one by the sign of the transport counts).
+    """
+    base = base_coefficients(study)
+    placed = calibrate.place_points(
+        study.calibration, coast, transects, structures, eligible, study.path.name
+    )
+    rows = np.unique([p[1] for p in placed] + [p[1] + 1 for p in placed if p[0] == "structure"])
+    rows = rows[rows < len(transects)]
+    red = reduce_transport(
+        study,
+        transects.normal_az_deg[rows],
+        sign[rows],
+        climate,
+        base,
+        point_index=point_index[rows] if climate.n_points > 1 else None,
+        exposure=exposure_rows(exposure, rows),
+    )
+    at = {int(r): k for k, r in enumerate(rows)}
+    chosen = []
+    for kind, i, _, dist in placed:
+        j = i
+        if kind == "structure":  # the side the primary transport arrives from
+            q_i = red.q_net_m3_per_yr[study["model"]["primary"]][at[i]]
+            j = i if q_i >= 0 or (i + 1) not in at else i + 1
+        chosen.append((kind, j, _, dist))
+    idx = np.array([at[c[1]] for c in chosen])
+    tangent = calibrate.tangent_az_deg(
+        transects.normal_az_deg[[c[1] for c in chosen]],
+        coast.sea_on_right[transects.part_id[[c[1] for c in chosen]]],
+    )
+    result = calibrate.fit(
+        study.calibration,
+        chosen,
+        {f: red.q_net_m3_per_yr[f][idx] for f in red.q_net_m3_per_yr},
+        tangent,
+    )
+    return result
+
+
 def evaluate(
     name: str,
     study: Study,
@@ -420,6 +528,7 @@ def evaluate(
     progress: Callable[[int], None] | None = None,
     structures: Structures | None = None,
     exposure: Exposure | None = None,
+    coefficients: dict[str, float] | None = None,
 ) -> ScenarioResult:
     """Run the chain for one climate: transport, gradient, rate, class, hotspots.
 
@@ -429,38 +538,31 @@ def evaluate(
     hotspots follow the shift against ``[classify] event_stable_band_m`` instead of the rate.
     ``closure_depth_m`` (per transect) overrides the study's (scenarios use the reference's);
     ``point_index`` gives each transect's wave point for a climate of several points.
+    ``coefficients`` (formula name to its coefficient, e.g. after calibration) override the
+    study's.
     """
     n = len(transects)
     if climate.n_points == n and climate.point_lon is None:  # one point per transect
         point_index = np.arange(n)
     elif point_index is None or climate.n_points == 1:
         point_index = np.zeros(n, dtype=int)
-    m, s, k = study["model"], study["sediment"], study["classify"]
-    cerc_k = m["cerc_k"]
-    if cerc_k == "del_valle":
-        cerc_k = float(transport.k_del_valle(s["d50_mm"], height="significant"))
-    red = transport_reductions(
+    m, k = study["model"], study["classify"]
+    coefficients = coefficients or base_coefficients(study)
+    red = reduce_transport(
+        study,
         transects.normal_az_deg,
         sign,
         climate,
-        formulas=m["formulas"],
-        primary=m["primary"],
-        breaker_index=m["breaker_index"],
-        breaking_method=m["breaking"],
-        cerc_k=cerc_k,
-        kamphuis_coefficient=m["kamphuis_coefficient"],
-        d50_mm=s["d50_mm"],
-        slope=s["slope"],
-        water_density_kg_m3=m["water_density_kg_m3"],
-        sediment_density_kg_m3=s["density_kg_m3"],
-        porosity=s["porosity"],
-        angle_step_deg=m["angle_step_deg"],
+        coefficients,
         point_index=point_index if climate.n_points > 1 else None,
         exposure=exposure,
         chunk_steps=chunk_steps,
         progress=progress,
     )
-    info: dict[str, Any] = {"cerc_k_used": cerc_k}
+    info: dict[str, Any] = {
+        "cerc_k_used": coefficients["cerc"],
+        "kamphuis_coefficient_used": coefficients["kamphuis"],
+    }
     if closure_depth_m is not None:
         dc = np.broadcast_to(np.asarray(closure_depth_m, dtype=float), (n,))
     elif m["closure_depth_m"] == "hallermeier":
@@ -757,6 +859,16 @@ def run_study(
     specs = [(spec, *scenario_climate(spec, study, climate, exposure)) for spec in study.scenarios]
     total = climate.n_steps + sum(c.n_steps for _, c, _, _ in specs)
     tick = progress(total, len(transects)) if progress is not None else None
+    coefficients = base_coefficients(study)
+    fitted = None
+    if study.calibration:
+        t0 = time.perf_counter()
+        eligible = np.isfinite(transects.normal_az_deg)
+        fitted = calibrate_coefficients(
+            study, coast, transects, climate, sign, point_index, exposure, structures, eligible
+        )
+        coefficients = {f: coefficients[f] * fitted.factors.get(f, 1.0) for f in coefficients}
+        timings["calibration"] = time.perf_counter() - t0
     t0 = time.perf_counter()
     reference = evaluate(
         "reference",
@@ -770,9 +882,12 @@ def run_study(
         progress=tick,
         structures=structures,
         exposure=exposure,
+        coefficients=coefficients,
     )
     timings["reference"] = time.perf_counter() - t0
     warnings = list(coast.warnings) + list(transects.warnings) + list(climate.warnings)
+    if fitted is not None:
+        warnings += fitted.warnings
     results = [reference]
     for spec, sc_climate, duration_s, info in specs:
         t0 = time.perf_counter()
@@ -792,6 +907,7 @@ def run_study(
             # waves grown over each transect's own fetch already stop at the land upwind: the
             # open-sea test of the exposure rays (which a lake shore never passes) is not theirs
             exposure=None if spec.get("fetch_km") == "auto" else exposure,
+            coefficients=coefficients,
         )
         result.columns |= info.pop("columns", {})
         result.info |= {"scenario": info}
@@ -823,4 +939,12 @@ def run_study(
         timings_s=timings,
         warnings=warnings,
         structures=structures,
+        calibration=None
+        if fitted is None
+        else {
+            "factors": fitted.factors,
+            "coefficients": coefficients,
+            "uncalibrated": base_coefficients(study),
+            "points": fitted.points,
+        },
     )

@@ -253,6 +253,7 @@ class Study:
     raw: dict[str, Any]
     settings: dict[str, dict[str, Any]] = field(default_factory=dict)
     scenarios: list[dict[str, Any]] = field(default_factory=list)
+    calibration: list[dict[str, Any]] = field(default_factory=list)
 
     def __getitem__(self, section: str) -> dict[str, Any]:
         """Return the settings of one section."""
@@ -332,10 +333,10 @@ def validate(raw: dict[str, Any], path: Path) -> Study:
         key, or an inconsistent combination (a steady condition and a record file together).
     """
     for name, table in raw.items():
-        if name == "scenario":
+        if name in ARRAY_TABLES:
             continue
         if name not in SCHEMA:
-            raise _unknown(path, name, [*SCHEMA, "scenario"], None)
+            raise _unknown(path, name, [*SCHEMA, *ARRAY_TABLES], None)
         if not isinstance(table, dict):
             raise StudyError(f"{path.name}: [{name}] must be a table of keys, not a value")
     settings = {
@@ -369,7 +370,14 @@ def validate(raw: dict[str, Any], path: Path) -> Study:
             "([waves] file): the height exceeded 12 hours a year comes from the record"
         )
     scenarios = _validate_scenarios(path, raw.get("scenario", []), settings)
-    return Study(path=path.resolve(), raw=raw, settings=settings, scenarios=scenarios)
+    calibration = _validate_calibration(path, raw.get("calibration", []))
+    return Study(
+        path=path.resolve(),
+        raw=raw,
+        settings=settings,
+        scenarios=scenarios,
+        calibration=calibration,
+    )
 
 
 def _validate_table(
@@ -446,6 +454,66 @@ def _validate_scenarios(
             raise StudyError(f"{path.name}: two scenarios are named {values['name']!r}")
         seen.add(values["name"])
         out.append({**values, "kind": kind})
+    return out
+
+
+def _latitude(v: Any) -> str | None:
+    return None if -90 <= v <= 90 else "a latitude in degrees between -90 and 90"
+
+
+def _longitude(v: Any) -> str | None:
+    return None if -180 <= v <= 360 else "a longitude in degrees between -180 and 360"
+
+
+#: Keys of one ``[[calibration]]`` table: a known net transport at a point of the coast.
+CALIBRATION_KEYS: dict[str, Key] = {
+    "name": Key("str", required=True, doc="what the known rate is (free text)"),
+    "lon": Key("float", check=_longitude, doc="longitude of the point, WGS 84"),
+    "lat": Key("float", check=_latitude, doc="latitude of the point, WGS 84"),
+    "x": Key("float", doc="x of the point in the coast file's CRS"),
+    "y": Key("float", doc="y of the point in the coast file's CRS"),
+    "structure": Key("str", doc="or the id of a structure: the transport arriving at it"),
+    "net_m3_per_yr": Key("float", required=True, check=_positive, doc="known net transport"),
+    "toward_deg": Key(
+        "float", required=True, check=_direction, doc="azimuth toward which the sand moves"
+    ),
+}
+
+#: Sections written as arrays of tables (``[[name]]``).
+ARRAY_TABLES = ("scenario", "calibration")
+
+
+def _validate_calibration(path: Path, tables: Any) -> list[dict[str, Any]]:
+    """Check the ``[[calibration]]`` tables: each names one place by one of three forms."""
+    if not isinstance(tables, list) or not all(isinstance(t, dict) for t in tables):
+        raise StudyError(
+            f"{path.name}: known transport rates are written as [[calibration]] tables"
+        )
+    out = []
+    for number, table in enumerate(tables, start=1):
+        label = f"calibration {number}"
+        if isinstance(table.get("name"), str):
+            label = f"calibration {table['name']!r}"
+        values = _validate_table(path, label, table, CALIBRATION_KEYS)
+        forms = [
+            form
+            for form, keys in (
+                ("lon/lat", ("lon", "lat")),
+                ("x/y", ("x", "y")),
+                ("structure", ("structure",)),
+            )
+            if any(values[k] is not None for k in keys)
+        ]
+        if len(forms) != 1:
+            raise StudyError(
+                f"{path.name}: [{label}] give the place once: lon and lat (WGS 84), x and y (in "
+                "the coast file's CRS) or structure (a structure's id)"
+                + (f"; found {' and '.join(forms)}" if forms else "")
+            )
+        pair = {"lon/lat": ("lon", "lat"), "x/y": ("x", "y")}.get(forms[0])
+        if pair and any(values[k] is None for k in pair):
+            raise StudyError(f"{path.name}: [{label}] needs both {pair[0]} and {pair[1]}")
+        out.append({**values, "form": forms[0]})
     return out
 
 

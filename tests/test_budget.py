@@ -3,7 +3,13 @@
 import numpy as np
 import pytest
 
-from shoreline.budget import alongshore_gradient, classify, find_hotspots, shoreline_change_rate
+from shoreline.budget import (
+    alongshore_gradient,
+    classify,
+    face_budget,
+    find_hotspots,
+    shoreline_change_rate,
+)
 
 
 def test_gradient_exact_for_quadratic_inside_open_part():
@@ -80,3 +86,80 @@ def test_hotspot_wraps_on_closed_ring():
     assert h.start_chainage_m == pytest.approx(750.0)
     assert h.end_chainage_m == pytest.approx(150.0)
     assert h.volume_m3_per_yr == pytest.approx(-2.0 * 100.0 * 10.0 * 4)
+
+
+# ---------------------------------------------------------------------------------------------
+# Face fluxes at a consistent scale (budget.face_budget)
+# ---------------------------------------------------------------------------------------------
+
+
+def _coast(n=101, dx=100.0):
+    return np.zeros(n, int), np.full(n, dx), np.zeros(n, bool)
+
+
+def test_face_budget_conserves_sand_in_every_segment():
+    # One-line continuity (CEM 2002, Part III-2): the volumes of the cells add up to the
+    # difference of the fluxes at the segment's ends, exactly, whatever the smoothing.
+    rng = np.random.default_rng(3)
+    part, dx, closed = _coast()
+    q = rng.normal(1e5, 3e4, part.size)
+    excluded = np.zeros(part.size, bool)
+    excluded[40:45] = True
+    fb = face_budget(np.maximum(q, 0), np.minimum(q, 0), part, dx, closed, 300.0, excluded)
+    width = np.full(part.size, 100.0)
+    width[[0, 39, 45, 100]] = 50.0  # the end transects of each segment stand for half a cell
+    for seg in (slice(0, 40), slice(45, 101)):
+        qs = fb.q_smooth[seg]
+        assert np.sum((fb.dqdx_m2_per_yr * width)[seg]) == pytest.approx(qs[-1] - qs[0], rel=1e-9)
+    assert np.isnan(fb.dqdx_m2_per_yr[excluded]).all()
+
+
+def test_excluded_transects_do_not_reach_their_neighbours():
+    part, dx, closed = _coast()
+    q = np.linspace(1e5, 2e5, part.size)
+    excluded = np.zeros(part.size, bool)
+    excluded[50] = True
+    a = face_budget(q, 0 * q, part, dx, closed, 300.0, excluded).dqdx_m2_per_yr
+    q2 = q.copy()
+    q2[50] = 9e9  # an estuary transect with an absurd transport
+    b = face_budget(q2, 0 * q2, part, dx, closed, 300.0, excluded).dqdx_m2_per_yr
+    np.testing.assert_array_equal(a[~excluded], b[~excluded])
+
+
+def test_one_transect_cannot_make_a_hotspot_pair():
+    # A spike dQ at one transect, smoothed at sigma, becomes a Gaussian of area dQ dx; its
+    # gradient is at most dQ dx exp(-1/2) / (sqrt(2 pi) sigma^2) (analytic derivative of a
+    # Gaussian). Unsmoothed, the spike's central difference is dQ / (2 dx): 1/sigma^2 smaller.
+    part, dx, closed = _coast()
+    q = np.full(part.size, 1e5)
+    q[50] += 1e5
+    sigma = 500.0
+    g = face_budget(q, 0 * q, part, dx, closed, sigma).dqdx_m2_per_yr
+    bound = 1e5 * 100.0 * np.exp(-0.5) / (np.sqrt(2 * np.pi) * sigma**2)
+    assert np.max(np.abs(g)) <= 1.05 * bound
+    assert np.max(np.abs(g)) < 0.1 * 1e5 / (2 * 100.0)
+
+
+def test_hard_reach_cannot_erode_and_starves_downdrift():
+    # Transport growing along the shore erodes everywhere (dQ/dx > 0). A non-erodible reach
+    # passes on only what arrives (Hanson and Kraus 1986, from memory): it does not erode, and
+    # the shore downdrift of it, fed less, erodes more.
+    part, dx, closed = _coast()
+    q = np.linspace(1e5, 2e5, part.size)
+    hard = np.zeros(part.size, bool)
+    hard[30:50] = True
+    free = face_budget(q, 0 * q, part, dx, closed, 0.0).dqdx_m2_per_yr
+    fixed = face_budget(q, 0 * q, part, dx, closed, 0.0, hard=hard).dqdx_m2_per_yr
+    assert np.all(fixed[hard] <= 1e-9)
+    assert fixed[50] > free[50]
+    np.testing.assert_allclose(fixed[:29], free[:29])
+    width = np.full(part.size, 100.0)
+    width[[0, -1]] = 50.0
+    assert np.sum(fixed * width) == pytest.approx(np.sum(free * width), rel=1e-12)
+
+
+def test_face_budget_without_smoothing_is_the_central_difference():
+    q = np.array([0.0, 1.0, 4.0, 9.0, 16.0])
+    part, dx, closed = np.zeros(5, int), np.ones(5), np.zeros(5, bool)
+    fb = face_budget(q, 0 * q, part, dx, closed, 0.0)
+    np.testing.assert_allclose(fb.dqdx_m2_per_yr, alongshore_gradient(q, part, dx, closed))

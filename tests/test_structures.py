@@ -146,3 +146,22 @@ def test_bypass_outside_unit_interval(tmp_path, capsys, where):
     code = main(["run", str(study), "--no-figures", "--quiet"])
     err = capsys.readouterr().err
     assert code != 0 and "bypass" in err and "1.5" in err
+
+
+@pytest.mark.parametrize("x_m", [0.0, 2.0], ids=["between-transects", "on-a-transect"])
+def test_a_full_jetty_traps_what_the_updrift_side_carries(tmp_path, x_m):
+    # A jetty reaching 300 m seaward shelters the shore just east of it from waves from 200
+    # deg, so the transect downdrift of it carries little or nothing. What arrives at the jetty
+    # is what the open shore updrift carries (one-line continuity, CEM III-2: the updrift
+    # fillet gains all of it), not an average with the sheltered lee. The transects sit at
+    # chainage 2, 102, ... m, so the jetty at x = 0 is between two and at x = 2 m on one.
+    write_jetty(tmp_path, x_m=x_m, reach_m=300.0)
+    result = run_study(jetty_study(tmp_path, 0.0))
+    cols = result.scenarios[0].columns
+    q = cols["q_cerc_m3_per_yr"]
+    x = cols["chainage_m"] - 5000.0
+    updrift = q[(x < x_m - 50.0) & (x > x_m - 1000.0)]
+    assert np.ptp(updrift) < 1e-3 * np.mean(updrift)  # a uniform open shore updrift
+    trap = result.scenarios[0].trapping
+    assert trap.q_arriving_m3_per_yr[0] == pytest.approx(np.mean(updrift), rel=1e-3)
+    assert trap.trapped_m3_per_yr[0] == pytest.approx(np.mean(updrift), rel=1e-3)

@@ -324,7 +324,11 @@ def _exchange(a: Path, b: Path) -> bool:
 def _swap(new: Path, target: Path) -> Path | None:
     """Put the folder ``new`` at ``target``; return where the old tree now is (None if none)."""
     if not os.path.lexists(target) or _is_empty_dir(target):
-        os.rename(new, target)  # atomic; replaces an empty folder
+        try:
+            os.rename(new, target)  # atomic; replaces an empty folder
+        except FileExistsError:  # Windows renames onto no folder, not even an empty one
+            target.rmdir()
+            os.rename(new, target)
         return None
     if _exchange(new, target):
         return new  # the old tree now has the new one's name

@@ -23,6 +23,7 @@ import shapely
 
 import shoreline.export
 import shoreline.folders
+import shoreline.run
 from shoreline.cli import main
 from shoreline.folders import MARKER
 
@@ -216,6 +217,46 @@ def test_no_room_beside_the_output_folder_keeps_it(earlier, capsys, monkeypatch)
     err = one_line(capsys)
     assert str(out.parent) in err and "Permission denied" in err and "unchanged" in err
     assert snapshot(out) == before and siblings(out) == []
+
+
+def test_a_read_only_folder_for_the_lock_is_refused_before_any_work(earlier, capsys, monkeypatch):
+    study, out, before = earlier
+    real_open = os.open
+
+    def read_only(path, *args, **kwargs):
+        if str(path).endswith(".lock"):
+            raise OSError(errno.EROFS, os.strerror(errno.EROFS), str(path))
+        return real_open(path, *args, **kwargs)
+
+    monkeypatch.setattr(shoreline.folders.os, "open", read_only)
+    monkeypatch.setattr(shoreline.run, "run_study", lambda *a, **k: pytest.fail("computed"))
+    assert run(study, "--out", out) == 2
+    err = one_line(capsys)
+    assert str(out) in err and "Read-only file system" in err and "writable" in err
+    assert snapshot(out) == before
+
+
+def test_an_old_tree_that_cannot_be_removed_is_a_warning_not_a_failure(
+    earlier, capsys, monkeypatch
+):
+    study, out, _ = earlier
+    real_remove = shoreline.folders._remove_ours
+
+    def stubborn(folder):
+        if (folder / "storm").exists():  # the old tree: only the earlier run had a scenario
+            raise PermissionError(errno.EACCES, os.strerror(errno.EACCES), str(folder))
+        real_remove(folder)
+
+    monkeypatch.setattr(shoreline.folders, "_remove_ours", stubborn)
+    other = make_study(study.parent, "other.toml")
+    assert run(other, "--out", out) == 0
+    err = one_line(capsys)
+    assert err.startswith("shoreline: warning: could not remove") and "Permission denied" in err
+    assert sorted(p.name for p in out.iterdir()) == [MARKER, "reference", "run.json"]
+    assert len(siblings(out)) == 1  # the old tree, marked as ours
+    monkeypatch.setattr(shoreline.folders, "_remove_ours", real_remove)
+    assert run(other, "--out", out) == 0
+    assert siblings(out) == []  # the next run removed it
 
 
 def test_an_output_folder_under_a_file_is_one_line(tmp_path, capsys):

@@ -203,8 +203,9 @@ def output_lock(out_dir: str | os.PathLike) -> Iterator[None]:
             pass
         os.close(fd)
     try:
-        os.ftruncate(fd, 0)
-        os.pwrite(fd, f"{os.getpid()}\n".encode("ascii"), 0)
+        with contextlib.suppress(OSError):  # the process id only helps the message of another run
+            os.ftruncate(fd, 0)
+            os.pwrite(fd, f"{os.getpid()}\n".encode("ascii"), 0)
         _HELD.add(real)
         yield
     finally:

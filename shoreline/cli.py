@@ -7,35 +7,61 @@ error with a non-zero exit; other exceptions are bugs and print a traceback only
 from __future__ import annotations
 
 import argparse
+import os
+import signal
 import sys
 from pathlib import Path
 
 import numpy as np
 
 from shoreline import __version__
-from shoreline.cautions import caution_lines
-from shoreline.errors import ShorelineError
+from shoreline.cautions import CAUTION, caution_lines
+from shoreline.errors import OutputError, ShorelineError, StudyError
+from shoreline.folders import (
+    DEFERRED_SIGNALS,
+    Interrupted,
+    check_output_folder,
+    output_lock,
+    require_regular_file,
+)
+
+
+def _common_options(default) -> argparse.ArgumentParser:
+    """Options every command takes, before or after the command's name."""
+    common = argparse.ArgumentParser(add_help=False)
+    common.add_argument(
+        "--debug",
+        action="store_true",
+        default=default,
+        help="show a traceback for every error (for bug reports)",
+    )
+    common.add_argument(
+        "--quiet", action="store_true", default=default, help="print only errors and the caution"
+    )
+    return common
 
 
 def build_parser() -> argparse.ArgumentParser:
     """Return the argument parser of the ``shoreline`` command."""
+    # the subcommands' copies of the common options leave a value given before the command
+    # alone (argparse would otherwise reset it to the default)
+    after = _common_options(argparse.SUPPRESS)
     parser = argparse.ArgumentParser(
         prog="shoreline",
+        parents=[_common_options(False)],
         description=(
             "Screening estimates of longshore sand transport and shoreline change: lays out "
             "shore-normal transects on a coast file, carries offshore waves to breaking, "
             "computes longshore transport (CERC, Kamphuis) and flags erosion and accretion "
             "hotspots."
         ),
-        epilog="Screening estimate only: " + " ".join(caution_lines()[1:3]) + " ...",
+        epilog=CAUTION,
     )
     parser.add_argument("--version", action="version", version=f"shoreline {__version__}")
-    parser.add_argument(
-        "--debug", action="store_true", help="show a traceback for every error (for bug reports)"
-    )
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
     run = sub.add_parser(
         "run",
+        parents=[after],
         help="run a study: transects, waves to breaking, transport, rates, hotspots, outputs",
         description="Run a study file and write its GIS layers, tables, figures and report.",
     )
@@ -43,7 +69,6 @@ def build_parser() -> argparse.ArgumentParser:
     run.add_argument(
         "--no-figures", action="store_true", help="skip figures and report (large batch runs)"
     )
-    run.add_argument("--quiet", action="store_true", help="print only errors and the caution")
     run.add_argument(
         "--chunk",
         type=int,
@@ -53,12 +78,14 @@ def build_parser() -> argparse.ArgumentParser:
     )
     tr = sub.add_parser(
         "transects",
+        parents=[after],
         help="write only the transects, to check the geometry in a GIS before a run",
         description="Lay out the transects of a study and write them (GeoJSON and GeoPackage).",
     )
     _study_arguments(tr)
     rep = sub.add_parser(
         "report",
+        parents=[after],
         help="rebuild the figures and report of an existing output folder without recomputing",
         description="Rebuild figures and report.html from the files of an output folder.",
     )
@@ -69,7 +96,10 @@ def build_parser() -> argparse.ArgumentParser:
 def _study_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("study", type=Path, help="the study file (TOML)")
     parser.add_argument(
-        "--out", type=Path, default=None, help="output folder (default: 'out' beside the study)"
+        "--out",
+        type=Path,
+        default=None,
+        help="output folder, replaced whole by each run (default: 'out' beside the study)",
     )
 
 
@@ -77,27 +107,81 @@ def _default_out(study_path: Path, out: Path | None) -> Path:
     return out if out is not None else study_path.resolve().parent / "out"
 
 
-def _figures_and_report(folder: Path) -> None:
-    """Write every scenario's figures, then the report, into an output folder."""
+def _figures_and_report(folder: Path) -> list[Path]:
+    """Write every scenario's figures, then the report, into an output folder; return them."""
     from shoreline.figures import write_figures
     from shoreline.report import write_report
 
     reference = folder / "reference"
+    written: list[Path] = []
     for scenario in sorted(p for p in folder.iterdir() if (p / "summary.json").exists()):
-        write_figures(scenario, reference_dir=None if scenario == reference else reference)
-    write_report(folder)
+        reference_dir = None if scenario == reference else reference
+        written.extend(write_figures(scenario, reference_dir=reference_dir))
+    written.append(write_report(folder))
+    return written
 
 
-def _cmd_run(args: argparse.Namespace, argv: list[str]) -> int:
-    from shoreline.errors import StudyError
+def _say(text: str) -> None:
+    """Print to standard output; a reader that went away (``| head``) is no error."""
+    try:
+        print(text, flush=True)
+    except BrokenPipeError:
+        # the standard way: point stdout at the null device so that nothing more fails
+        try:
+            devnull = os.open(os.devnull, os.O_WRONLY)
+            os.dup2(devnull, sys.stdout.fileno())
+        except (OSError, ValueError, AttributeError):
+            sys.stdout = open(os.devnull, "w")  # kept open: lives as long as the process
+
+
+def _relative(path: Path, folder: Path) -> str:
+    """``path`` relative to ``folder`` (absolute only across drives)."""
+    try:
+        return os.path.relpath(path.resolve(), folder)
+    except ValueError:
+        return str(path.resolve())
+
+
+def _recorded_command(args: argparse.Namespace, study, out: Path) -> list[str]:
+    """The command as one would type it in the study's folder: no paths of this machine."""
+    command = ["shoreline", args.command, study.path.name]
+    if args.out is not None:
+        command += ["--out", _relative(out, study.folder)]
+    if getattr(args, "no_figures", False):
+        command.append("--no-figures")
+    if getattr(args, "chunk", None) is not None:
+        command += ["--chunk", str(args.chunk)]
+    return command
+
+
+def _check_out(study, out: Path) -> None:
+    """Refuse an output folder that may not be replaced, or that holds an input of the study."""
+    check_output_folder(out)
+    real = Path(os.path.realpath(out))
+    for path in (study.path, study.coast_file, study.wave_file, study.structures_file):
+        if path is not None and real in Path(os.path.realpath(path)).parents:
+            raise OutputError(
+                f"{out}: the output folder holds an input of the study ({path.name}) and is "
+                "replaced whole by a run; choose another --out"
+            )
+
+
+def _notes(notes: list[str]) -> None:
+    for note in notes:
+        print(f"shoreline: warning: {' '.join(note.split())}", file=sys.stderr)
+
+
+def _cmd_run(args: argparse.Namespace) -> int:
     from shoreline.export import utc_now, write_run
     from shoreline.run import run_study
     from shoreline.study import read_study
 
     started = utc_now()
-    study = read_study(args.study)
+    study = read_study(require_regular_file(args.study, "study file", StudyError))
     if args.chunk is not None and args.chunk < 1:
         raise StudyError(f"--chunk {args.chunk}: expected a whole number of time steps >= 1")
+    out = _default_out(args.study, args.out)
+    _check_out(study, out)
     bars = []
 
     def progress(total_steps: int, n_transects: int):
@@ -114,18 +198,21 @@ def _cmd_run(args: argparse.Namespace, argv: list[str]) -> int:
         bars.append(bar)
         return lambda steps: bar.update(steps * n_transects)
 
-    try:
-        result = run_study(study, chunk_steps=args.chunk, progress=progress)
-    finally:
-        for bar in bars:
-            bar.close()
-    out = _default_out(args.study, args.out)
-    extra = None if args.no_figures else _figures_and_report
-    write_run(result, out, ["shoreline", *argv], started, extra=extra)
+    notes: list[str] = []
+    with output_lock(out):  # held from the start: a second run into ``out`` refuses at once
+        try:
+            result = run_study(study, chunk_steps=args.chunk, progress=progress)
+        finally:
+            for bar in bars:
+                bar.close()
+        extra = None if args.no_figures else _figures_and_report
+        command = _recorded_command(args, study, out)
+        write_run(result, out, command, started, extra=extra, notes=notes)
+    _notes(notes)
     if not args.quiet:
-        print(summary_text(result, out))
+        _say(summary_text(result, out))
     else:
-        print("\n".join(caution_lines()))
+        _say("\n".join(caution_lines()))
     return 0
 
 
@@ -219,31 +306,67 @@ def _cmd_transects(args: argparse.Namespace) -> int:
     from shoreline.run import load_transects
     from shoreline.study import read_study
 
-    study = read_study(args.study)
-    coast, transects = load_transects(study)
+    study = read_study(require_regular_file(args.study, "study file", StudyError))
     out = _default_out(args.study, args.out)
-    c = study["coast"]
-    settings = {k: c[k] for k in ("file", "spacing_m", "orientation_window_m", "transect_length_m")}
-    paths = write_transects_only(coast, transects, c["transect_length_m"], out, settings)
-    print(f"{len(transects)} transects on {len(coast.parts)} shore part(s)")
-    for w in coast.warnings:
-        print(f"warning: {w}")
-    print("\n".join(caution_lines()))
-    for p in paths:
-        print(f"written: {p}")
+    _check_out(study, out)
+    notes: list[str] = []
+    with output_lock(out):
+        coast, transects = load_transects(study)
+        c = study["coast"]
+        keys = ("file", "spacing_m", "orientation_window_m", "transect_length_m")
+        settings = {k: c[k] for k in keys}
+        command = _recorded_command(args, study, out)
+        length = c["transect_length_m"]
+        paths = write_transects_only(coast, transects, length, out, settings, command, notes)
+    _notes(notes)
+    lines = []
+    if not args.quiet:
+        lines.append(f"{len(transects)} transects on {len(coast.parts)} shore part(s)")
+        lines.extend(f"warning: {w}" for w in coast.warnings)
+    lines.extend(caution_lines())
+    if not args.quiet:
+        lines.extend(f"written: {p}" for p in paths)
+    _say("\n".join(lines))
     return 0
 
 
 def _cmd_report(args: argparse.Namespace) -> int:
-    from shoreline.errors import OutputError
-
     folder = args.folder
     if not (folder / "run.json").exists():
         raise OutputError(f"{folder}: not an output folder of 'shoreline run' (no run.json)")
-    _figures_and_report(folder)
-    print("\n".join(caution_lines()))
-    print(f"written: {folder / 'report.html'}")
+    with output_lock(folder):
+        written = _figures_and_report(folder)
+    lines = list(caution_lines())
+    if not args.quiet:
+        lines.append(f"redrawn in {folder}:")
+        lines.extend(f"  {p.relative_to(folder)}" for p in written)
+    _say("\n".join(lines))
     return 0
+
+
+def _one_line(text: object) -> str:
+    """A message on one line: readers of CSV or netCDF files may give several."""
+    return " ".join(str(text).split())
+
+
+def _on_signal(signum: int, _frame) -> None:
+    raise Interrupted(signum)
+
+
+def _interrupted_text(exc: Interrupted, args: argparse.Namespace) -> str:
+    name = signal.Signals(exc.signum).name
+    if args.command == "report":
+        return (
+            f"shoreline: interrupted by {name}; every figure and the report in {args.folder} "
+            "is whole, either redrawn or as it was"
+        )
+    out = _default_out(args.study, args.out)
+    if exc.published is not None:
+        return f"shoreline: interrupted by {name} after the new output was moved into {out}"
+    return (
+        f"shoreline: interrupted by {name}; no new output was moved into place and "
+        f"{out} is as it was"
+    )
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -251,32 +374,43 @@ def main(argv: list[str] | None = None) -> int:
     argv = list(sys.argv[1:] if argv is None else argv)
     parser = build_parser()
     args = parser.parse_args(argv)
+    if args.command is None:
+        parser.print_usage(sys.stderr)
+        print("shoreline: error: give a command: run, transects or report", file=sys.stderr)
+        return 2
+    previous = {}
     try:
-        if args.command is None:
-            parser.print_help()
-            return 0
+        for signum in DEFERRED_SIGNALS:  # the output folder is cleaned up on each of them
+            previous[signum] = signal.signal(signum, _on_signal)
+    except ValueError:  # not the main thread: leave signals as they are
+        pass
+    try:
         if args.command == "run":
-            return _cmd_run(args, argv)
+            return _cmd_run(args)
         if args.command == "transects":
             return _cmd_transects(args)
         return _cmd_report(args)
     except ShorelineError as exc:
         if args.debug:
             raise
-        print(f"shoreline: error: {exc}", file=sys.stderr)
+        print(f"shoreline: error: {_one_line(exc)}", file=sys.stderr)
         return 2
-    except KeyboardInterrupt:
-        print("shoreline: interrupted; no new output was moved into place", file=sys.stderr)
-        return 130
+    except KeyboardInterrupt as exc:
+        stop = exc if isinstance(exc, Interrupted) else Interrupted(signal.SIGINT)
+        print(_interrupted_text(stop, args), file=sys.stderr)
+        return 128 + int(stop.signum)
     except Exception as exc:  # a bug: say so in one line, traceback with --debug
         if args.debug:
             raise
         print(
-            f"shoreline: internal error ({type(exc).__name__}: {exc}); this is a bug: "
+            f"shoreline: internal error ({type(exc).__name__}: {_one_line(exc)}); this is a bug: "
             "re-run with --debug for the traceback and report it",
             file=sys.stderr,
         )
         return 3
+    finally:
+        for signum, handler in previous.items():
+            signal.signal(signum, signal.SIG_DFL if handler is None else handler)
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -1,8 +1,8 @@
 """Writers: GeoJSON (RFC 7946, WGS 84), one GeoPackage in the working CRS, CSV, the run record.
 
-Outputs appear whole or not at all: :func:`write_run` builds everything in a temporary folder
-beside the output folder and moves each finished item into place only when all of it was
-written; a failed run leaves earlier output untouched.
+Outputs appear whole or not at all: :func:`write_run` builds the whole output folder beside the
+old one and swaps the two in one step (:func:`shoreline.folders.publish`); a failed run leaves
+earlier output untouched.
 """
 
 from __future__ import annotations
@@ -10,10 +10,7 @@ from __future__ import annotations
 import hashlib
 import json
 import math
-import os
-import shutil
 import sys
-import uuid
 from collections.abc import Callable, Mapping
 from datetime import datetime, timezone
 from pathlib import Path
@@ -29,7 +26,7 @@ from shoreline import __version__
 from shoreline.cautions import CAUTION, caution_lines
 from shoreline.climate import joint_histogram
 from shoreline.coast import CoastLines, Transects, chainage_positions, interp_extrapolate
-from shoreline.errors import OutputError
+from shoreline.folders import publish
 from shoreline.run import RunResult, ScenarioResult
 from shoreline.transport import SECONDS_PER_YEAR
 
@@ -181,15 +178,34 @@ def sha256_of(path: Path) -> str:
     return digest.hexdigest()
 
 
-def input_files(result: RunResult) -> list[Path]:
-    """Every input file of a run (a Shapefile brings its sidecar files)."""
-    files = [result.study.path, result.study.coast_file]
-    if result.study.coast_file.suffix.lower() == ".shp":
-        stem = result.study.coast_file.with_suffix("")
-        files += sorted(p for p in stem.parent.glob(stem.name + ".*") if p.suffix.lower() != ".shp")
-    if result.study.wave_file is not None:
-        files.append(result.study.wave_file)
-    return [f.resolve() for f in files if f.exists()]
+def input_files(result: RunResult) -> dict[str, Path]:
+    """Every input file of a run, keyed by its path as the study gives it.
+
+    The study file by its name; every other file by its path as written in the study (relative
+    to the study's folder); a Shapefile brings its sidecar files. So the record stays the same
+    when the study folder is moved or shared.
+    """
+    study = result.study
+    settings = study.settings
+    named = {study.path.name: study.path}
+    written = [
+        settings["coast"]["file"],
+        settings["coast"].get("land"),
+        settings["waves"]["file"],
+        settings.get("structures", {}).get("file"),
+        *(s.get("file") for s in study.scenarios),
+    ]
+    for name in written:
+        if not name:
+            continue
+        path = study.folder / name
+        named[name] = path
+        if path.suffix.lower() == ".shp":
+            stem = path.with_suffix("")
+            for side in sorted(stem.parent.glob(stem.name + ".*")):
+                if side.suffix.lower() != ".shp":
+                    named[str(Path(name).with_name(side.name))] = side
+    return {name: path for name, path in named.items() if path.is_file()}
 
 
 def _jsonable(value: Any) -> Any:
@@ -551,10 +567,10 @@ def run_record(result: RunResult, command: list[str], started_utc: str) -> dict[
         "command": command,
         "python": sys.version.split()[0],
         "started_utc": started_utc,
-        "study_file": str(result.study.path),
+        "study_file": result.study.path.name,
         "study": result.study.raw,
         "settings": result.study.settings,
-        "inputs": {str(p): sha256_of(p) for p in input_files(result)},
+        "inputs": {name: sha256_of(p) for name, p in input_files(result).items()},
         "working_crs": crs_label(result.transects.working_crs),
         "working_crs_name": result.transects.working_crs.name,
         "counts": {
@@ -576,46 +592,18 @@ def utc_now() -> str:
     return datetime.now(timezone.utc).replace(microsecond=0).isoformat()
 
 
-def publish(build: Callable[[Path], None], out_dir: Path) -> None:
-    """Build outputs in a temporary folder beside ``out_dir``, then move them into place.
-
-    ``build(tmp)`` writes everything into ``tmp``. Only when it returns are the items moved into
-    ``out_dir`` (each replacing an earlier item of the same name); if it raises, ``out_dir`` is
-    left as it was and the temporary folder is removed.
-    """
-    out_dir = Path(out_dir)
-    try:
-        out_dir.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise OutputError(f"{out_dir}: cannot create the output folder ({exc.strerror})") from None
-    if not os.access(out_dir, os.W_OK):
-        raise OutputError(f"{out_dir}: the output folder is not writable")
-    tmp = out_dir / f".partial-{uuid.uuid4().hex[:8]}"
-    tmp.mkdir()
-    try:
-        build(tmp)
-        for item in sorted(tmp.iterdir()):
-            target = out_dir / item.name
-            old = out_dir / f".old-{uuid.uuid4().hex[:8]}-{item.name}"
-            if target.exists():
-                target.rename(old)
-            item.rename(target)
-            if old.exists():
-                shutil.rmtree(old) if old.is_dir() else old.unlink()
-    finally:
-        shutil.rmtree(tmp, ignore_errors=True)
-
-
 def write_run(
     result: RunResult,
     out_dir: Path,
     command: list[str],
     started_utc: str,
-    extra: Callable[[Path], None] | None = None,
+    extra: Callable[[Path], Any] | None = None,
+    notes: list[str] | None = None,
 ) -> list[Path]:
-    """Write every scenario folder and run.json into ``out_dir``, atomically (see publish).
+    """Write every scenario folder and run.json as the whole of ``out_dir`` (see publish).
 
-    ``extra(tmp)`` may add more (figures, the report) before the outputs are moved into place.
+    ``extra(tmp)`` may add more (figures, the report) before the new folder is swapped in;
+    ``notes`` collects lines for the user that are no failure.
     """
     names: list[Path] = []
 
@@ -634,14 +622,20 @@ def write_run(
         if extra is not None:
             extra(tmp)
 
-    publish(build, out_dir)
+    publish(build, out_dir, command, notes)
     return names
 
 
 def write_transects_only(
-    coast: CoastLines, transects: Transects, length_m: float, out_dir: Path, settings: dict
+    coast: CoastLines,
+    transects: Transects,
+    length_m: float,
+    out_dir: Path,
+    settings: dict,
+    command: list[str] | None = None,
+    notes: list[str] | None = None,
 ) -> list[Path]:
-    """Write just the shoreline and transects (GeoJSON and GeoPackage) for a geometry check."""
+    """Write just the transects (GeoJSON and GeoPackage) as the whole of ``out_dir``."""
     cols = {
         "transect_id": transects.transect_id,
         "part_id": transects.part_id,
@@ -657,5 +651,5 @@ def write_transects_only(
         frame.to_file(tmp / "transects.gpkg", layer="transects", driver="GPKG")
         write_about(tmp / "transects.gpkg", settings)
 
-    publish(build, out_dir)
+    publish(build, out_dir, command, notes)
     return paths

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import os
 import subprocess
 import sys
 from pathlib import Path
@@ -12,7 +13,9 @@ import numpy as np
 import pytest
 import shapely
 
+from shoreline.cautions import CAUTION, caution_lines
 from shoreline.cli import main
+from shoreline.errors import ShorelineError
 
 GOOD_COAST = shapely.LineString([(500_000.0, 4_000_000.0), (505_000.0, 4_000_000.0)])
 
@@ -175,7 +178,9 @@ def test_no_figures_then_report_rebuilds_without_recomputing(tmp_path, capsys):
     assert main(["report", str(out)]) == 0
     assert (out / "report.html").exists() and (out / "reference" / "map.png").exists()
     assert (out / "reference" / "transects.csv").read_bytes() == before
-    capsys.readouterr()
+    printed = capsys.readouterr().out.splitlines()  # what was redrawn, by relative path
+    for name in ("reference/map.png", "reference/alongshore.png", "report.html"):
+        assert f"  {name}" in printed
     assert main(["report", str(tmp_path / "nowhere")]) != 0
     err = capsys.readouterr().err
     assert "run.json" in err and len(err.strip().splitlines()) == 1
@@ -185,3 +190,65 @@ def test_lines_need_the_sea_side(tmp_path, capsys):
     path = setup(tmp_path, study_text().replace('sea = "right"\n', ""))
     code, err = run_cli(capsys, path)
     assert_one_line(code, err, "sea", "left", "right")
+
+
+@pytest.mark.parametrize(
+    "args",
+    [
+        ["run", "--debug", "{study}", "--quiet"],
+        ["--debug", "run", "{study}", "--quiet"],
+        ["--quiet", "run", "{study}", "--debug"],
+        ["run", "{study}", "--quiet", "--debug"],
+    ],
+)
+def test_debug_and_quiet_go_before_or_after_the_command(tmp_path, capsys, args):
+    path = setup(tmp_path, study_text())
+    out = tmp_path / "out"
+    argv = [a.format(study=path) for a in args] + ["--out", str(out), "--no-figures"]
+    assert main(argv) == 0
+    assert capsys.readouterr().out.startswith("SCREENING ESTIMATE ONLY.")  # quiet: the caution
+    (tmp_path / "coast.gpkg").unlink()
+    with pytest.raises(ShorelineError):  # debug: the error itself, for its traceback
+        main(argv)
+
+
+def test_quiet_transects_and_report_print_only_the_caution(tmp_path, capsys):
+    path = setup(tmp_path, study_text())
+    assert main(["--quiet", "transects", str(path), "--out", str(tmp_path / "t")]) == 0
+    assert capsys.readouterr().out.strip() == "\n".join(caution_lines())
+
+
+def test_bare_command_prints_usage_to_stderr_and_exits_2(capsys):
+    assert main([]) == 2
+    captured = capsys.readouterr()
+    assert captured.out == "" and captured.err.startswith("usage: shoreline")
+
+
+def test_help_prints_the_whole_caution(capsys):
+    with pytest.raises(SystemExit) as done:
+        main(["--help"])
+    assert done.value.code == 0
+    assert CAUTION in " ".join(capsys.readouterr().out.split())
+
+
+def test_a_library_message_over_several_lines_is_printed_as_one(tmp_path, capsys):
+    # the CSV reader's own message ends in a line break
+    record(
+        tmp_path,
+        "time,hs_m,tp_s,dir_deg\n2031-01-01T00:00Z,1,8,200\n2031-01-01T01:00Z,1,8,200,5,6\n",
+    )
+    path = setup(tmp_path, study_text(waves='file = "w.csv"'))
+    assert_one_line(*run_cli(capsys, path), "w.csv")
+
+
+def test_a_named_pipe_as_study_file_is_refused_without_waiting(tmp_path):
+    fifo = tmp_path / "study.toml"
+    os.mkfifo(fifo)
+    done = subprocess.run(
+        [sys.executable, "-m", "shoreline.cli", "run", str(fifo)],
+        capture_output=True,
+        text=True,
+        timeout=20,
+    )
+    assert done.returncode == 2
+    assert done.stderr.count("\n") == 1 and "named pipe" in done.stderr and str(fifo) in done.stderr

@@ -17,7 +17,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 #: The classes a transect can get, in the order used for codes.
-CLASSES = ("erosion", "accretion", "stable", "sheltered")
+CLASSES = ("erosion", "accretion", "stable", "sheltered", "excluded")
 
 
 def alongshore_gradient(
@@ -114,12 +114,17 @@ def shoreline_change_rate(
 
 
 def classify(
-    rate_m_per_yr: np.ndarray, sheltered: np.ndarray, stable_band_m_per_yr: float
+    rate_m_per_yr: np.ndarray,
+    sheltered: np.ndarray,
+    stable_band_m_per_yr: float,
+    excluded: np.ndarray | None = None,
 ) -> np.ndarray:
-    """Class of each transect: ``erosion``, ``accretion``, ``stable`` or ``sheltered``.
+    """Class of each transect: ``erosion``, ``accretion``, ``stable``, ``sheltered``, ``excluded``.
 
-    ``sheltered`` where no wave reaches the shore (``sheltered`` true), otherwise ``stable``
-    where ``|rate| < stable_band_m_per_yr``, else erosion (rate < 0) or accretion (rate > 0).
+    ``excluded`` where the budget leaves the transect out (not open coast:
+    :mod:`shoreline.reaches`), ``sheltered`` where no wave reaches the shore (``sheltered``
+    true), otherwise ``stable`` where ``|rate| < stable_band_m_per_yr``, else erosion
+    (rate < 0) or accretion (rate > 0).
 
     Examples
     --------
@@ -134,6 +139,8 @@ def classify(
     out[np.asarray(sheltered, dtype=bool)] = "sheltered"
     if stable_band_m_per_yr == 0:
         out[(rate == 0) & ~np.asarray(sheltered, dtype=bool)] = "stable"
+    if excluded is not None:
+        out[np.asarray(excluded, dtype=bool)] = "excluded"
     return out.astype(str)
 
 

@@ -121,6 +121,10 @@ class CoastLines:
     vertex_spacing_m, vertex_noise_m : float, optional
         Median spacing of the file's own vertices and the robust amplitude of their scatter
         about a smooth line (see :func:`vertex_noise`) [m]; NaN when not measured.
+    data_edges : shapely.MultiLineString, optional
+        Edges of land polygons that lie on the bounding box of all of them: the box the data
+        was clipped with, not a coast (see :func:`box_edges`), in the working CRS; None if
+        there are none.
     """
 
     parts: list[shapely.LineString]
@@ -133,6 +137,7 @@ class CoastLines:
     path: str = ""
     vertex_spacing_m: float = float("nan")
     vertex_noise_m: float = float("nan")
+    data_edges: object = None
 
     def __post_init__(self):
         n = len(self.parts)
@@ -574,6 +579,16 @@ def read_coast(
         ),
         vidx,
     )
+    edges = box_edges(coords, vidx, is_ring)
+    if edges is not None:
+        to_work = pyproj.Transformer.from_crs(source_crs, working, always_xy=True)
+        edges = shapely.transform(edges, lambda c: np.column_stack(to_work.transform(*c.T)))
+        notes.append(
+            f"{shapely.get_num_geometries(edges)} stretches of the land polygons "
+            f"({shapely.length(edges) / 1000:.1f} km) lie on the edges of their bounding box: "
+            "taken for where the data was clipped, not coast; their transects are left out "
+            "(shore type data_edge)"
+        )
     xy, vidx = _project_densified(coords, vidx, source_crs, working)
     if not np.isfinite(xy).all():
         raise CoastError(
@@ -616,7 +631,37 @@ def read_coast(
         path=name,
         vertex_spacing_m=spacing_m,
         vertex_noise_m=noise_m,
+        data_edges=edges,
     )
+
+
+def box_edges(coords: np.ndarray, vidx: np.ndarray, is_ring: np.ndarray):
+    """Segments of polygon rings lying on the bounding box of all ring vertices.
+
+    Data cut out of a larger map by a rectangle (in the file's own coordinates) has straight
+    edges along the rectangle; a real coast almost never runs exactly along it. A segment
+    counts when both its ends are within 1e-7 of the box's size from the same side. Returns a
+    MultiLineString in the file's coordinates, densified to 1/1000 of the box, or None.
+    """
+    ring_v = is_ring[vidx]
+    if not ring_v.any():
+        return None
+    c = coords[ring_v]
+    lo, hi = c.min(axis=0), c.max(axis=0)
+    tol = 1e-7 * max(float(np.max(hi - lo)), 1e-12)
+    side = np.zeros((len(coords), 4), dtype=bool)
+    side[:, 0] = np.abs(coords[:, 0] - lo[0]) <= tol
+    side[:, 1] = np.abs(coords[:, 0] - hi[0]) <= tol
+    side[:, 2] = np.abs(coords[:, 1] - lo[1]) <= tol
+    side[:, 3] = np.abs(coords[:, 1] - hi[1]) <= tol
+    side &= ring_v[:, None]
+    same = (vidx[1:] == vidx[:-1]) & (side[1:] & side[:-1]).any(axis=1)
+    if not same.any():
+        return None
+    k = np.flatnonzero(same)
+    segs = shapely.linestrings(np.stack([coords[k], coords[k + 1]], axis=1))
+    merged = shapely.line_merge(shapely.union_all(segs))
+    return shapely.segmentize(merged, float(np.max(hi - lo)) / 1000.0)
 
 
 def vertex_noise(xy: np.ndarray, vidx: np.ndarray) -> tuple[float, float]:

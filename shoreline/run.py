@@ -19,6 +19,7 @@ from dataclasses import dataclass, field, fields, replace
 from typing import Any
 
 import numpy as np
+import shapely
 
 from shoreline import calibrate, profile, transport, waves, wind
 from shoreline.budget import (
@@ -37,8 +38,12 @@ from shoreline.climate import (
 from shoreline.coast import CoastLines, Transects, lay_out_transects, read_coast
 from shoreline.errors import CoastError, StudyError
 from shoreline.exposure import Exposure, compute_exposure
+from shoreline.reaches import read_reaches, shore_types
 from shoreline.structures import Structures, Trapping, read_structures
 from shoreline.study import Study
+
+#: Shore types the budget leaves out (class "excluded").
+LEFT_OUT = ("enclosed", "data_edge", "excluded")
 
 #: Transect-steps evaluated per chunk of the record (bounds the memory of the hot path).
 DEFAULT_CHUNK_ELEMENTS = 1 << 17
@@ -368,6 +373,29 @@ def load_transects(study: Study) -> tuple[CoastLines, Transects]:
     return coast, transects
 
 
+def shore_type_of(
+    study: Study, coast: CoastLines, transects: Transects, exposure: Exposure | None
+) -> np.ndarray:
+    """The shore type of every transect (:mod:`shoreline.reaches`).
+
+    Enclosed water from the exposure (a view that does not reach the open sea), data edges
+    from the coast (clipping-box edges of land polygons: transects within a metre of one),
+    and the user's reaches.
+    """
+    n = len(transects)
+    enclosed = None
+    if exposure is not None and getattr(exposure, "open_coast", None) is not None:
+        enclosed = ~np.asarray(exposure.open_coast, dtype=bool)
+    edge = None
+    if coast.data_edges is not None:
+        points = shapely.points(transects.x_m, transects.y_m)
+        edge = shapely.dwithin(coast.data_edges, points, 1.0)
+    excluded = hard = None
+    if study["coast"]["reaches"] is not None:
+        excluded, hard = read_reaches(study.folder / study["coast"]["reaches"], transects)
+    return shore_types(n, enclosed, edge, excluded, hard)
+
+
 def load_land(study: Study, transects: Transects) -> list:
     """The study's extra land (``[coast] land``) in the working CRS, as shapely geometries.
 
@@ -529,6 +557,7 @@ def evaluate(
     structures: Structures | None = None,
     exposure: Exposure | None = None,
     coefficients: dict[str, float] | None = None,
+    shore: np.ndarray | None = None,
 ) -> ScenarioResult:
     """Run the chain for one climate: transport, gradient, rate, class, hotspots.
 
@@ -539,9 +568,12 @@ def evaluate(
     ``closure_depth_m`` (per transect) overrides the study's (scenarios use the reference's);
     ``point_index`` gives each transect's wave point for a climate of several points.
     ``coefficients`` (formula name to its coefficient, e.g. after calibration) override the
-    study's.
+    study's. ``shore`` gives each transect's shore type (:mod:`shoreline.reaches`; default all
+    open coast): excluded types get the class ``excluded`` and stay out of the budget.
     """
     n = len(transects)
+    shore = shore_types(n) if shore is None else shore
+    left_out = np.isin(shore, LEFT_OUT)
     if climate.n_points == n and climate.point_lon is None:  # one point per transect
         point_index = np.arange(n)
     elif point_index is None or climate.n_points == 1:
@@ -580,6 +612,8 @@ def evaluate(
         transects.spacing_m,
         transects.part_closed,
         sigma_m=budget_scale_m(transects),
+        excluded=left_out,
+        hard=shore == "non_erodible",
         structure_face=structures.face if has_structures else None,
         structure_bypass=structures.bypass if has_structures else None,
     )
@@ -600,7 +634,7 @@ def evaluate(
         event = {"volume_change_m3_per_m": volume, "shoreline_shift_m": volume / active_m}
         metric, band = event["shoreline_shift_m"], k["event_stable_band_m"]
         info["event_duration_h"] = event_duration_s / 3600.0
-    klass = classify(metric, sheltered, band)
+    klass = classify(metric, sheltered, band, excluded=left_out)
     hotspots = find_hotspots(
         klass,
         metric,
@@ -643,6 +677,7 @@ def evaluate(
             "rate_m_per_yr": rate,
             **event,
             "class": klass,
+            "shore_type": shore,
             "sheltered_fraction": red.sheltered_fraction,
             "hs_mean_m": hs_mean,
             "hs_12h_m": hs_12h,
@@ -854,6 +889,7 @@ def run_study(
         max_distance_m=study["coast"]["exposure_distance_m"],
     )
     timings["exposure"] = time.perf_counter() - t0
+    shore = shore_type_of(study, coast, transects, exposure)
     point_index = nearest_wave_point(climate, transects)
     chunk_steps = chunk_steps or study["waves"]["chunk_steps"] or None
     specs = [(spec, *scenario_climate(spec, study, climate, exposure)) for spec in study.scenarios]
@@ -863,7 +899,7 @@ def run_study(
     fitted = None
     if study.calibration:
         t0 = time.perf_counter()
-        eligible = np.isfinite(transects.normal_az_deg)
+        eligible = np.isfinite(transects.normal_az_deg) & (shore == "open")
         fitted = calibrate_coefficients(
             study, coast, transects, climate, sign, point_index, exposure, structures, eligible
         )
@@ -883,6 +919,7 @@ def run_study(
         structures=structures,
         exposure=exposure,
         coefficients=coefficients,
+        shore=shore,
     )
     timings["reference"] = time.perf_counter() - t0
     warnings = list(coast.warnings) + list(transects.warnings) + list(climate.warnings)
@@ -908,6 +945,7 @@ def run_study(
             # open-sea test of the exposure rays (which a lake shore never passes) is not theirs
             exposure=None if spec.get("fetch_km") == "auto" else exposure,
             coefficients=coefficients,
+            shore=shore,
         )
         result.columns |= info.pop("columns", {})
         result.info |= {"scenario": info}

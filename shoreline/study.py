@@ -117,6 +117,10 @@ SCHEMA: dict[str, dict[str, Key]] = {
             doc='polygons are "land" (sea outside) or "water" (lakes: water inside)',
         ),
         "land": Key("str", doc="extra land that blocks waves: islands, breakwaters, spits"),
+        "reaches": Key(
+            "str",
+            doc='reaches to leave out or hold fixed: attribute treat = "exclude" or "non_erodible"',
+        ),
         "exposure_distance_m": Key(
             "float", 20000.0, check=_positive, doc="how far from the shore land is looked for"
         ),

@@ -216,6 +216,16 @@ def _cmd_run(args: argparse.Namespace) -> int:
     return 0
 
 
+#: Hotspots listed per scenario on the console (the strongest; every one is in the layers).
+CONSOLE_HOTSPOTS = 10
+
+
+def strongest_hotspots(hotspots: list, n: int) -> list:
+    """The ``n`` hotspots that gain or lose the most volume, in their along-shore order."""
+    ranked = sorted(hotspots, key=lambda h: -abs(h.volume_m3_per_yr))[:n]
+    return sorted(ranked, key=lambda h: h.hotspot_id)
+
+
 def summary_text(result, out: Path) -> str:
     """The summary printed at the end of a run: per scenario, then side by side."""
     lines = [
@@ -250,7 +260,13 @@ def summary_text(result, out: Path) -> str:
                 f"{cols['transect_id'][i]} (part {cols['part_id'][i]}, chainage "
                 f"{cols['chainage_m'][i] / 1000:.2f} km)"
             )
-        for h in scenario.hotspots:
+        shown = strongest_hotspots(scenario.hotspots, CONSOLE_HOTSPOTS)
+        if len(scenario.hotspots) > len(shown):
+            lines.append(
+                f"[{scenario.name}] {len(scenario.hotspots)} hotspots; the {len(shown)} strongest "
+                "(by the volume they gain or lose; all are in hotspots.geojson):"
+            )
+        for h in shown:
             lines.append(
                 f"    {h.klass:9s} #{h.hotspot_id:<3d} part {h.part_id} "
                 f"{h.start_chainage_m / 1000:6.2f}-{h.end_chainage_m / 1000:6.2f} km  "

@@ -434,6 +434,13 @@ def write_scenario(folder: Path, result: RunResult, scenario: ScenarioResult) ->
         write_geojson(path, frame, members | {"name": "structures"})
         written.append(path)
         layers.append(("structures", frame))
+    if result.land:  # the study's extra land, for maps (polygons only)
+        land = gpd.GeoDataFrame(
+            {"land_id": np.arange(len(result.land))},
+            geometry=list(result.land),
+            crs=result.transects.working_crs,
+        )
+        layers.append(("land", land))
     gpkg = folder / "results.gpkg"
     for name, frame in layers:
         # an empty layer still declares its geometry type (the fields come from the columns)

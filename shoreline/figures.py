@@ -168,6 +168,23 @@ def read_scenario(scenario_dir: str | os.PathLike) -> ScenarioData:
     return ScenarioData(folder, name, summary, shoreline, transects, hotspots)
 
 
+def read_layer(folder: str | os.PathLike, layer: str):
+    """A layer of a scenario's GeoPackage (working CRS), or None where it has none.
+
+    A missing or unreadable GeoPackage also gives None: :func:`read_scenario` reports those.
+    """
+    import geopandas as gpd
+    import pyogrio
+
+    gpkg = Path(folder) / "results.gpkg"
+    try:
+        if layer not in {str(n) for n in pyogrio.list_layers(gpkg)[:, 0]}:
+            return None
+        return gpd.read_file(gpkg, layer=layer)
+    except Exception:  # the figures and report are still useful without it
+        return None
+
+
 def read_structures(folder: str | os.PathLike):
     """The "structures" layer of a scenario's GeoPackage (working CRS), or None if it has none.
 
@@ -610,9 +627,14 @@ def _map_figure(data: ScenarioData):
     halfrange = _robust_halfrange(rate, sheltered, band)
     cnorm = mcolors.CenteredNorm(vcenter=0.0, halfrange=halfrange)
     live = ok & ~sheltered
+    land = read_layer(data.folder, "land")
+    if land is not None and len(land):
+        land.plot(ax=ax, color=_LAND_FILL, edgecolor="none", zorder=0)
 
-    # Hotspots: thick outlines along the shore (erosion solid, accretion dashed), drawn first.
+    # Hotspots: thick outlines along the shore (erosion solid, accretion dashed), drawn first;
+    # only the strongest are labelled, so that a long coast stays legible.
     label_pos = []
+    labelled = _strongest_ids(data.hotspots, MAP_LABELS)
     for _, hot in data.hotspots.iterrows():
         hclass = str(hot.get("class", ""))
         dashes = "-" if hclass == "erosion" else (0, (2.2, 1.2))
@@ -628,10 +650,12 @@ def _map_figure(data: ScenarioData):
                 dash_capstyle="butt",
             )
             ax.plot(xy[:, 0], xy[:, 1], color="white", lw=6, zorder=1.1, solid_capstyle="butt")
+        hid = int(hot.get("hotspot_id", 0))
+        if hid not in labelled:
+            continue
         mid = hot.geometry.interpolate(0.5, normalized=True) if hot.geometry is not None else None
         if mid is None or mid.is_empty:
             continue
-        hid = int(hot.get("hotspot_id", 0))
         members = live & (_hotspot_ids(tr) == hid) if "hotspot_id" in tr else None
         if members is None or not members.any():
             dist = np.hypot(start[:, 0] - mid.x, start[:, 1] - mid.y)
@@ -648,7 +672,12 @@ def _map_figure(data: ScenarioData):
         ax.add_collection(LineCollection(segs[live], colors="black", linewidths=3.8, zorder=2))
         colours = cmap(cnorm(rate[live]))
         ax.add_collection(LineCollection(segs[live], colors=colours, linewidths=2.4, zorder=2.1))
-    shel = ok & sheltered
+    excluded = ok & (cls == "excluded")
+    if excluded.any():
+        ax.add_collection(
+            LineCollection(segs[excluded], colors=_EXCLUDED_GREY, linewidths=1.0, zorder=1.9)
+        )
+    shel = ok & sheltered & ~excluded
     if shel.any():
         ax.add_collection(
             LineCollection(
@@ -793,10 +822,38 @@ def _map_figure(data: ScenarioData):
     ]
     if structures:
         handles.append(Line2D([], [], color="black", lw=3.2, label="structure (groyne, jetty)"))
+    if excluded.any():
+        handles.append(
+            Line2D([], [], color=_EXCLUDED_GREY, lw=1.0, label="left out: not open coast")
+        )
+    n_hot = len(data.hotspots)
+    if n_hot > len(labelled):
+        handles.append(
+            Line2D([], [], ls="", label=f"{len(labelled)} of {n_hot} hotspots labelled (strongest)")
+        )
     fig.legend(handles=handles, loc="outside lower center", ncols=3, fontsize=7.5, frameon=False)
     ax.set_title(f"{metric.title} \u2014 scenario \u201c{data.name}\u201d", fontsize=12)
     _footer(fig)
     return fig
+
+
+#: Hotspots labelled on a map: the ones that gain or lose the most volume.
+MAP_LABELS = 12
+
+_EXCLUDED_GREY = "#9a9a9a"
+_LAND_FILL = "#e9e6df"
+
+
+def _strongest_ids(hotspots, n: int) -> set[int]:
+    """Ids of the ``n`` hotspots with the largest volume (rate or event column)."""
+    if hotspots is None or len(hotspots) == 0 or "hotspot_id" not in hotspots:
+        return set()
+    col = next((c for c in ("volume_m3_per_yr", "volume_m3") if c in hotspots), None)
+    ids = hotspots["hotspot_id"].to_numpy(int)
+    if col is None:
+        return set(ids[:n].tolist())
+    order = np.argsort(-np.abs(hotspots[col].to_numpy(float)), kind="stable")
+    return set(ids[order[:n]].tolist())
 
 
 def _hotspot_ids(transects) -> np.ndarray:

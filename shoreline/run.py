@@ -331,6 +331,7 @@ class RunResult:
     warnings: list[str]
     structures: Structures | None = None
     calibration: dict[str, Any] | None = None
+    land: list = field(default_factory=list)
 
 
 def load_climate(study: Study) -> WaveClimate:
@@ -881,7 +882,8 @@ def run_study(
         )
     timings["transects"] = time.perf_counter() - t0
     t0 = time.perf_counter()
-    land = load_land(study, transects) + (list(structures.lines) if structures else [])
+    extra_land = load_land(study, transects)
+    land = extra_land + (list(structures.lines) if structures else [])
     exposure = compute_exposure(
         transects,
         list(coast.parts),
@@ -977,6 +979,7 @@ def run_study(
         timings_s=timings,
         warnings=warnings,
         structures=structures,
+        land=[g for g in extra_land if shapely.get_dimensions(g) == 2],
         calibration=None
         if fitted is None
         else {

@@ -252,3 +252,22 @@ def test_a_named_pipe_as_study_file_is_refused_without_waiting(tmp_path):
     )
     assert done.returncode == 2
     assert done.stderr.count("\n") == 1 and "named pipe" in done.stderr and str(fifo) in done.stderr
+
+
+@pytest.mark.parametrize(
+    ("coast_key", "extra", "words"),
+    [
+        # an orientation window of 1e-9 m measures nothing: every normal was NaN, then a crash
+        ("orientation_window_m = 1e-9", "", ["orientation_window_m", ">= 1 and"]),
+        # a spacing of a micrometre would lay out billions of transects
+        ("spacing_m = 1e-6", "", ["spacing_m", ">= 1 and"]),
+        # transects a million km long were written with null coordinates
+        ("transect_length_m = 1e9", "", ["transect_length_m", "<= 100000 m"]),
+        # sand as light as the water moves the wrong way (negative transport), silently
+        ("", "[sediment]\ndensity_kg_m3 = 1000.0\n", ["density_kg_m3", ">= 1500"]),
+        ("", "[sediment]\ndensity_kg_m3 = 1025.0\n", ["density_kg_m3", "denser than any water"]),
+    ],
+)
+def test_study_values_beyond_physical_bounds(tmp_path, capsys, coast_key, extra, words):
+    text = study_text(extra=extra).replace('sea = "right"', f'sea = "right"\n{coast_key}')
+    assert_one_line(*run_cli(capsys, setup(tmp_path, text)), "study.toml", *words)

@@ -271,3 +271,119 @@ def test_a_named_pipe_as_study_file_is_refused_without_waiting(tmp_path):
 def test_study_values_beyond_physical_bounds(tmp_path, capsys, coast_key, extra, words):
     text = study_text(extra=extra).replace('sea = "right"', f'sea = "right"\n{coast_key}')
     assert_one_line(*run_cli(capsys, setup(tmp_path, text)), "study.toml", *words)
+
+
+NC_ATTRS = {
+    "hs": ("sea_surface_wave_significant_height", "m"),
+    "tp": ("sea_surface_wave_period_at_variance_spectral_density_maximum", "s"),
+    "dirm": ("sea_surface_wave_from_direction", "degree"),
+}
+
+
+def write_nc(path: Path, hs, tp, dr, points=None, fill_value=None) -> None:
+    """A CF wave record of hourly steps; ``points`` (lon, lat rows) make it (time, station)."""
+    import xarray as xr
+
+    hs = np.asarray(hs, float)
+    times = np.datetime64("2031-01-01T00:00", "ns") + np.arange(hs.shape[0]) * np.timedelta64(
+        3600, "s"
+    )
+    dims = ("time",) if points is None else ("time", "station")
+    data = {
+        key: (dims, np.asarray(v, float), {"standard_name": s, "units": u})
+        for (key, (s, u)), v in zip(NC_ATTRS.items(), (hs, tp, dr), strict=True)
+    }
+    if points is not None:
+        data["lon"] = ("station", points[:, 0], {"standard_name": "longitude"})
+        data["lat"] = ("station", points[:, 1], {"standard_name": "latitude"})
+    ds = xr.Dataset(data, coords={"time": ("time", times, {"standard_name": "time"})})
+    encoding = {key: {"_FillValue": fill_value} for key in NC_ATTRS}
+    ds.to_netcdf(path, encoding=encoding)
+
+
+def strict_json(path: Path):
+    """Parse JSON as the standard has it: Infinity and NaN are not JSON."""
+
+    def refuse(name):
+        raise ValueError(f"{path.name} holds {name}, which is not JSON")
+
+    return json.loads(path.read_text(encoding="utf-8"), parse_constant=refuse)
+
+
+@pytest.mark.parametrize(
+    ("row", "words"),
+    [
+        ("Infinity,8.0,200", ["line 3", "hs_m = inf", "<= 25 m"]),
+        ("31.0,8.0,200", ["line 3", "hs_m = 31", "<= 25 m", "about 20 m"]),
+        ("1.0,1e4,200", ["line 3", "tp_s = 10000", "<= 40 s"]),
+        ("1.0,-inf,200", ["line 3", "tp_s = -inf"]),
+    ],
+)
+def test_record_values_beyond_physical_bounds_name_the_line(tmp_path, capsys, row, words):
+    record(
+        tmp_path,
+        f"time,hs_m,tp_s,dir_deg\n2031-01-01T00:00Z,1.0,8.0,200\n2031-01-01T01:00Z,{row}\n",
+    )
+    path = setup(tmp_path, study_text(waves='file = "w.csv"'))
+    assert_one_line(*run_cli(capsys, path), "w.csv", *words)
+
+
+def test_record_csv_reader_message_is_one_line(tmp_path, capsys):
+    # pandas' tokenizer message ends in a newline
+    record(
+        tmp_path,
+        "time,hs_m,tp_s,dir_deg\n2031-01-01T00:00Z,1,8,200\n2031-01-01T01:00Z,1,8,200,5,6\n",
+    )
+    path = setup(tmp_path, study_text(waves='file = "w.csv"'))
+    assert_one_line(*run_cli(capsys, path), "w.csv", "Expected 4 fields")
+
+
+def test_netcdf_reader_message_is_one_line(tmp_path, capsys):
+    # xarray's "no backend" message holds two links on lines of their own
+    (tmp_path / "w.nc").write_text("time,hs_m\n2031-01-01T00:00Z,1\n")
+    path = setup(tmp_path, study_text(waves='file = "w.nc"'))
+    assert_one_line(*run_cli(capsys, path), "w.nc", "cannot read as netCDF", "docs.xarray.dev")
+
+
+def test_netcdf_default_fill_value_is_missing_not_a_wave(tmp_path, capsys):
+    # A variable written without _FillValue holds netCDF's default fill value, 9.96921e36,
+    # where it was never written (netCDF users' guide, from memory): a missing step, skipped
+    # and counted like NaN; it was taken as a wave 1e36 m high and gave infinite transport.
+    hs = np.full(6, 1.0)
+    hs[2] = 9.969209968386869e36
+    write_nc(tmp_path / "w.nc", hs, np.full(6, 8.0), np.full(6, 200.0), fill_value=False)
+    path = setup(tmp_path, study_text(waves='file = "w.nc"'))
+    out = tmp_path / "out"
+    assert main(["run", str(path), "--out", str(out), "--no-figures"]) == 0
+    assert "skipped 1 time steps" in capsys.readouterr().out
+    run = json.loads((out / "run.json").read_text())
+    assert run["counts"]["records"] == 5 and run["counts"]["records_skipped"] == 1
+    transects = strict_json(out / "reference" / "transects.geojson")
+    q = [f["properties"]["q_cerc_m3_per_yr"] for f in transects["features"]]
+    assert all(np.isfinite(q))
+
+
+def test_netcdf_values_beyond_physical_bounds_name_the_variable(tmp_path, capsys):
+    hs = np.full(4, 1.0)
+    hs[1] = np.inf
+    write_nc(tmp_path / "w.nc", hs, np.full(4, 8.0), np.full(4, 200.0))
+    path = setup(tmp_path, study_text(waves='file = "w.nc"'))
+    assert_one_line(*run_cli(capsys, path), "w.nc", "'hs'", "time index 1", "<= 25 m")
+
+
+def test_netcdf_point_without_a_longitude_names_the_variable(tmp_path, capsys):
+    points = np.array([[np.nan, 36.1], [3.05, 36.1]])
+    write_nc(
+        tmp_path / "w.nc", np.ones((4, 2)), np.full((4, 2), 8.0), np.full((4, 2), 200.0), points
+    )
+    path = setup(tmp_path, study_text(waves='file = "w.nc"'))
+    assert_one_line(*run_cli(capsys, path), "w.nc", "'lon'", "longitude", "wave point 0")
+
+
+def test_netcdf_point_latitude_out_of_range(tmp_path, capsys):
+    points = np.array([[3.01, 36.1], [3.05, 136.1]])
+    write_nc(
+        tmp_path / "w.nc", np.ones((4, 2)), np.full((4, 2), 8.0), np.full((4, 2), 200.0), points
+    )
+    path = setup(tmp_path, study_text(waves='file = "w.nc"'))
+    assert_one_line(*run_cli(capsys, path), "w.nc", "'lat'", "136.1", "[-90, 90]")

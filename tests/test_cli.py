@@ -387,3 +387,19 @@ def test_netcdf_point_latitude_out_of_range(tmp_path, capsys):
     )
     path = setup(tmp_path, study_text(waves='file = "w.nc"'))
     assert_one_line(*run_cli(capsys, path), "w.nc", "'lat'", "136.1", "[-90, 90]")
+
+
+def test_netcdf_with_two_wave_points_through_the_cli(tmp_path, capsys):
+    # A documented feature: a (time, point) record with CF lon/lat; the summary's mean height
+    # failed on the 2-D heights ("Axis must be specified ..."). Each point counts equally.
+    points = np.array([[3.01, 36.1], [3.05, 36.1]])
+    hs = np.c_[np.full(4, 1.0), np.full(4, 2.0)]
+    write_nc(tmp_path / "w.nc", hs, np.full((4, 2), 8.0), np.full((4, 2), 200.0), points)
+    extra = '\n[[scenario]]\nname = "higher"\nhs_factor = 1.1\n'
+    path = setup(tmp_path, study_text(waves='file = "w.nc"', extra=extra))
+    out = tmp_path / "out"
+    assert main(["run", str(path), "--out", str(out), "--no-figures"]) == 0
+    printed = capsys.readouterr().out
+    assert "record of 4 steps, mean Hs 1.50 m" in printed
+    summary = json.loads((out / "reference" / "summary.json").read_text())
+    assert summary["waves"]["hs_mean_m"] == pytest.approx(1.5)

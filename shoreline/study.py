@@ -17,7 +17,7 @@ from pathlib import Path
 from typing import Any
 
 from shoreline.bounds import BOUNDS
-from shoreline.errors import StudyError
+from shoreline.errors import StudyError, require_regular_file
 
 if sys.version_info >= (3, 11):
     import tomllib
@@ -540,6 +540,7 @@ def read_study(path: str | Path) -> Study:
         column), or fails :func:`validate`.
     """
     path = Path(path)
+    require_regular_file(path, "study file", StudyError)
     try:
         text = path.read_text(encoding="utf-8")
     except FileNotFoundError:

@@ -2,10 +2,13 @@
 
 from __future__ import annotations
 
+import contextlib
 import json
 import os
 import subprocess
 import sys
+import threading
+import time
 from pathlib import Path
 
 import geopandas as gpd
@@ -403,3 +406,117 @@ def test_netcdf_with_two_wave_points_through_the_cli(tmp_path, capsys):
     assert "record of 4 steps, mean Hs 1.50 m" in printed
     summary = json.loads((out / "reference" / "summary.json").read_text())
     assert summary["waves"]["hs_mean_m"] == pytest.approx(1.5)
+
+
+def coast_geojson(tmp_path: Path, geometry: dict) -> Path:
+    """A GeoJSON coast of one feature written as text (GIS writers refuse broken geometry)."""
+    feature = {"type": "Feature", "properties": {}, "geometry": geometry}
+    text = json.dumps({"type": "FeatureCollection", "features": [feature]})
+    (tmp_path / "c.geojson").write_text(text, encoding="utf-8")
+    path = tmp_path / "study.toml"
+    path.write_text(study_text(coast="c.geojson"), encoding="utf-8")
+    return path
+
+
+@pytest.mark.parametrize(
+    ("geometry", "words"),
+    [
+        ({"type": "LineString", "coordinates": [[3.0, 43.0]]}, ["feature 0", "single vertex"]),
+        (
+            {
+                "type": "Polygon",
+                "coordinates": [[[3.0, 43.0], [3.1, 43.0], [3.1, 43.1], [3.0, 43.1]]],
+            },
+            ["feature 0", "not closed"],
+        ),
+    ],
+)
+def test_geometry_gdal_reads_but_shapely_refuses(tmp_path, capsys, geometry, words):
+    # GDAL passes these on; shapely refused them inside the reader with a GEOS message
+    assert_one_line(*run_cli(capsys, coast_geojson(tmp_path, geometry)), "c.geojson", *words)
+
+
+def test_line_that_turns_back_exactly_on_itself(tmp_path, capsys):
+    # Out 5 km and back along the same segment: behind and ahead of the turn are the same
+    # shore, so its orientation is undefined there (the run crashed writing a NaN normal).
+    spike = shapely.LineString([(500_000.0, 4e6), (505_000.0, 4e6), (502_000.0, 4e6)])
+    path = setup(tmp_path, study_text(), geoms=[spike])
+    assert_one_line(*run_cli(capsys, path), "coast.gpkg", "feature 0", "turns back", "505000")
+
+
+@pytest.mark.parametrize(
+    ("coords", "words"),
+    [
+        # metres under a CRS that says degrees: the working CRS got a latitude of 4,000,000
+        ([(500_000.0, 4e6), (505_000.0, 4e6)], ["look like metres", "EPSG:4326", "degrees"]),
+        ([(3.0, 89.99), (3.0, 95.0)], ["latitude 95", "[-90, 90]"]),
+        ([(-200.0, 40.0), (-199.9, 40.0)], ["longitude -200", "[-180, 360]"]),
+    ],
+)
+def test_geographic_coast_out_of_range(tmp_path, capsys, coords, words):
+    path = setup(tmp_path, study_text(), geoms=[shapely.LineString(coords)], crs="EPSG:4326")
+    assert_one_line(*run_cli(capsys, path), "coast.gpkg", *words)
+
+
+def test_structures_file_in_metres_under_degrees(tmp_path, capsys):
+    jetty = shapely.LineString([(502_000.0, 4_000_100.0), (502_000.0, 3_999_990.0)])
+    gpd.GeoDataFrame(geometry=[jetty], crs="EPSG:4326").to_file(tmp_path / "s.gpkg")
+    path = setup(tmp_path, study_text(extra='[structures]\nfile = "s.gpkg"\n'))
+    assert_one_line(*run_cli(capsys, path), "s.gpkg", "look like metres")
+
+
+def test_transect_count_is_limited_before_laying_out(tmp_path, capsys, monkeypatch):
+    # The limit (500,000, docs/study-file.md) is lowered here so the test stays small: 5 km at
+    # 1 m would be 5,001 transects. Without the check they were laid out (and at a spacing of
+    # micrometres memory ran out).
+    monkeypatch.setattr("shoreline.coast.MAX_TRANSECTS", 1000)
+    path = setup(tmp_path, study_text().replace('sea = "right"', 'sea = "right"\nspacing_m = 1.0'))
+    assert_one_line(*run_cli(capsys, path), "coast.gpkg", "about 5,0", "the limit is 1,000")
+
+
+@contextlib.contextmanager
+def named_pipe(path: Path):
+    """A named pipe at ``path``. A reader that opens it without checking blocks until a writer
+    comes: a helper thread comes as a writer and leaves at once, so such a reader sees an
+    empty stream and fails the test instead of hanging it."""
+    os.mkfifo(path)
+    done = threading.Event()
+
+    def unblock() -> None:
+        while not done.is_set():
+            try:
+                fd = os.open(path, os.O_WRONLY | os.O_NONBLOCK)
+            except OSError:  # nobody is reading
+                time.sleep(0.05)
+                continue
+            os.close(fd)
+
+    helper = threading.Thread(target=unblock, daemon=True)
+    helper.start()
+    try:
+        yield path
+    finally:
+        done.set()
+        helper.join()
+
+
+@pytest.mark.skipif(not hasattr(os, "mkfifo"), reason="named pipes need a POSIX system")
+@pytest.mark.parametrize(
+    ("pipe", "extra", "waves"),
+    [
+        ("coast.gpkg", "", None),
+        ("w.csv", "", 'file = "w.csv"'),
+        ("w.nc", "", 'file = "w.nc"'),
+        ("land.gpkg", "", None),
+        ("s.gpkg", '[structures]\nfile = "s.gpkg"\n', None),
+        ("study.toml", "", None),
+    ],
+)
+def test_readers_refuse_a_named_pipe(tmp_path, capsys, pipe, extra, waves):
+    text = study_text(extra=extra, **({"waves": waves} if waves else {}))
+    if pipe == "land.gpkg":
+        text = text.replace('sea = "right"', 'sea = "right"\nland = "land.gpkg"')
+    path = setup(tmp_path, text)
+    (tmp_path / pipe).unlink(missing_ok=True)
+    with named_pipe(tmp_path / pipe):
+        assert_one_line(*run_cli(capsys, path), pipe, "pipe")

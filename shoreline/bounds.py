@@ -164,11 +164,12 @@ BOUNDS: dict[str, Bound] = {
         low_open=False,
     ),
     "closure_depth_m": Bound(
-        0.0,
+        0.5,
         50.0,
         "m",
-        "closure depths of exposed ocean coasts are about 10-20 m",
+        "closure depths are about 1 m on sheltered lake shores and 10-20 m on exposed ocean coasts",
         "from memory",
+        low_open=False,
     ),
     "berm_height_m": Bound(
         0.0,
@@ -177,6 +178,20 @@ BOUNDS: dict[str, Bound] = {
         "berms of storm gravel beaches reach about 10 m",
         "from memory",
         low_open=False,
+    ),
+    "cerc_k": Bound(
+        0.0,
+        2.0,
+        "",
+        "five times the 0.39 of SPM 1984 for significant height; larger is a unit mistake",
+        "our choice",
+    ),
+    "kamphuis_coefficient": Bound(
+        0.0,
+        20.0,
+        "",
+        "about ten times the 2.27 of Kamphuis (1991); larger is a unit mistake",
+        "our choice",
     ),
 }
 

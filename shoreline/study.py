@@ -39,10 +39,6 @@ class Key:
     doc: str = ""
 
 
-def _positive(v: Any) -> str | None:
-    return None if isinstance(v, (int, float)) and v > 0 else "a number > 0"
-
-
 def _non_negative(v: Any) -> str | None:
     return None if v >= 0 else "a number >= 0"
 
@@ -87,6 +83,7 @@ _depth = _bounded_or("deep", "depth_m")
 _closure = _bounded_or("hallermeier", "closure_depth_m")
 _fetch = _bounded_or("auto", "fetch_km")
 _window = _bounded_or("auto", "orientation_window_m")
+_cerc_k = _bounded_or("del_valle", "cerc_k")
 
 
 def _formulas(v: Any) -> str | None:
@@ -94,12 +91,6 @@ def _formulas(v: Any) -> str | None:
     if bad or not v:
         return "a non-empty list from " + ", ".join(repr(f) for f in KNOWN_FORMULAS)
     return None
-
-
-def _cerc_k(v: Any) -> str | None:
-    if isinstance(v, str):
-        return None if v == "del_valle" else '"del_valle" or a number > 0'
-    return None if v > 0 else '"del_valle" or a number > 0'
 
 
 #: Every section and key of the study file, with type, default and range.
@@ -183,7 +174,9 @@ SCHEMA: dict[str, dict[str, Key]] = {
             "float", 0.5, check=_non_negative, doc="angle node spacing for breaking; 0 = direct"
         ),
         "cerc_k": Key("float-or-str", 0.39, check=_cerc_k, doc="CERC coefficient (Hs form)"),
-        "kamphuis_coefficient": Key("float", 2.27, check=_positive, doc="Kamphuis coefficient"),
+        "kamphuis_coefficient": Key(
+            "float", 2.27, check=_bounded("kamphuis_coefficient"), doc="Kamphuis coefficient"
+        ),
         "water_density_kg_m3": Key(
             "float", 1025.0, check=_bounded("water_density_kg_m3"), doc="water density"
         ),

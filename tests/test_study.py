@@ -167,6 +167,8 @@ BOUNDED_KEYS = [
     ("model", "water_density_kg_m3"),
     ("model", "closure_depth_m"),
     ("model", "berm_height_m"),
+    ("model", "cerc_k"),
+    ("model", "kamphuis_coefficient"),
 ]
 
 

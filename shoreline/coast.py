@@ -707,6 +707,8 @@ def check_lonlat(name, crs, coords, lon, lat, feature) -> None:
     lat_lo, lat_hi = LATITUDE_DEG
     ok = (lon >= lon_lo) & (lon <= lon_hi) & (lat >= lat_lo) & (lat <= lat_hi)
     if ok.all():
+        if not crs.is_geographic:
+            _check_projected_domain(name, crs, coords, lon, lat, feature)
         return
     i = int(np.flatnonzero(~ok)[0])
     x, y = coords[i, 0], coords[i, 1]
@@ -734,6 +736,28 @@ def check_frame_lonlat(name, frame: geopandas.GeoDataFrame) -> None:
         warnings.simplefilter("ignore", RuntimeWarning)
         lon, lat = _lonlat_transformer(crs).transform(coords[:, 0], coords[:, 1])
     check_lonlat(name, crs, coords, np.asarray(lon), np.asarray(lat), index)
+
+
+def _check_projected_domain(name, crs, coords, lon, lat, feature) -> None:
+    """Refuse projected coordinates that do not come back from longitude/latitude.
+
+    Beyond the edge of its world a projection wraps: Web Mercator x = 1e9 m is read as some
+    longitude and projects back to another x. More than 1 km of difference is such a wrap (a
+    round trip is exact to far less than a millimetre where the projection is valid).
+    """
+    back = pyproj.Transformer.from_crs(pyproj.CRS.from_epsg(4326), crs, always_xy=True)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        x, y = back.transform(lon, lat)
+    with np.errstate(invalid="ignore"):
+        off = ~(np.hypot(np.asarray(x) - coords[:, 0], np.asarray(y) - coords[:, 1]) <= 1000.0)
+    if off.any():
+        i = int(np.flatnonzero(off)[0])
+        raise CoastError(
+            f"{name}: feature {feature[i]} has a vertex at {coords[i, 0]:.10g}, "
+            f"{coords[i, 1]:.10g}, beyond the range of the file's CRS {_crs_label(crs)}: check "
+            "the file's CRS"
+        )
 
 
 def _refuse_spikes(name, coords, vidx, part_feat, n_lines) -> None:

@@ -520,3 +520,10 @@ def test_readers_refuse_a_named_pipe(tmp_path, capsys, pipe, extra, waves):
     (tmp_path / pipe).unlink(missing_ok=True)
     with named_pipe(tmp_path / pipe):
         assert_one_line(*run_cli(capsys, path), pipe, "pipe")
+
+
+def test_projected_coast_beyond_the_range_of_its_crs(tmp_path, capsys):
+    # Web Mercator ends at x = +-20,037,508 m; x = 1e9 m was wrapped to some longitude and run
+    line = shapely.LineString([(1e9, 0.0), (1e9 + 5000.0, 0.0)])
+    path = setup(tmp_path, study_text(), geoms=[line], crs="EPSG:3857")
+    assert_one_line(*run_cli(capsys, path), "coast.gpkg", "beyond the range", "EPSG:3857")

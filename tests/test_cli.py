@@ -283,7 +283,7 @@ NC_ATTRS = {
 }
 
 
-def write_nc(path: Path, hs, tp, dr, points=None, fill_value=None) -> None:
+def write_nc(path: Path, hs, tp, dr, points=None, fill_value=None, depth=None) -> None:
     """A CF wave record of hourly steps; ``points`` (lon, lat rows) make it (time, station)."""
     import xarray as xr
 
@@ -299,6 +299,9 @@ def write_nc(path: Path, hs, tp, dr, points=None, fill_value=None) -> None:
     if points is not None:
         data["lon"] = ("station", points[:, 0], {"standard_name": "longitude"})
         data["lat"] = ("station", points[:, 1], {"standard_name": "latitude"})
+    if depth is not None:
+        standard = {"standard_name": "sea_floor_depth_below_sea_surface", "units": "m"}
+        data["depth"] = ("station", np.asarray(depth, float), standard)
     ds = xr.Dataset(data, coords={"time": ("time", times, {"standard_name": "time"})})
     encoding = {key: {"_FillValue": fill_value} for key in NC_ATTRS}
     ds.to_netcdf(path, encoding=encoding)
@@ -527,3 +530,12 @@ def test_projected_coast_beyond_the_range_of_its_crs(tmp_path, capsys):
     line = shapely.LineString([(1e9, 0.0), (1e9 + 5000.0, 0.0)])
     path = setup(tmp_path, study_text(), geoms=[line], crs="EPSG:3857")
     assert_one_line(*run_cli(capsys, path), "coast.gpkg", "beyond the range", "EPSG:3857")
+
+
+def test_netcdf_point_depth_beyond_its_bound(tmp_path, capsys):
+    # a depth of 20 km (deeper than any ocean) or NaN at a wave point was used (> 0 was checked)
+    points = np.array([[3.01, 36.1], [3.05, 36.1]])
+    ones = np.ones((4, 2))
+    write_nc(tmp_path / "w.nc", ones, 8 * ones, 200 * ones, points, depth=[30.0, 20000.0])
+    path = setup(tmp_path, study_text(waves='file = "w.nc"'))
+    assert_one_line(*run_cli(capsys, path), "w.nc", "depth of every wave point", "<= 11000 m")

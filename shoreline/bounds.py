@@ -193,6 +193,13 @@ BOUNDS: dict[str, Bound] = {
         "about ten times the 2.27 of Kamphuis (1991); larger is a unit mistake",
         "our choice",
     ),
+    "net_m3_per_yr": Bound(
+        0.0,
+        1.0e7,
+        "m3/yr",
+        "the largest net longshore transports measured are a few million m3/yr",
+        "from memory",
+    ),
 }
 
 #: The bounds on the longitude and latitude of coast vertices and wave points [deg]. 0-360

@@ -16,7 +16,8 @@ from typing import Any
 import numpy as np
 
 from shoreline.bounds import BOUNDS, LATITUDE_DEG, LONGITUDE_DEG, NETCDF_DEFAULT_FILL
-from shoreline.errors import WaveRecordError, one_line, require_regular_file
+from shoreline.errors import WaveRecordError, one_line
+from shoreline.folders import require_regular_file
 
 #: The columns a wave record CSV must have.
 RECORD_COLUMNS = ("time", "hs_m", "tp_s", "dir_deg")

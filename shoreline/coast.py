@@ -49,7 +49,8 @@ from scipy.sparse.csgraph import connected_components
 from scipy.spatial import cKDTree
 
 from shoreline.bounds import LATITUDE_DEG, LONGITUDE_DEG, MAX_TRANSECTS
-from shoreline.errors import CoastError, one_line, require_regular_file
+from shoreline.errors import CoastError, one_line
+from shoreline.folders import require_regular_file
 
 __all__ = [
     "SEA_SIDES",
@@ -61,6 +62,7 @@ __all__ = [
     "invalid_geometry",
     "lay_out_transects",
     "read_coast",
+    "require_gis_source",
     "working_crs_for",
 ]
 
@@ -653,6 +655,16 @@ def vertex_noise(xy: np.ndarray, vidx: np.ndarray) -> tuple[float, float]:
     return float(np.median(seg[good])), float(np.sqrt(np.median(d[good] ** 2) / (0.455 * 1.5)))
 
 
+def require_gis_source(path, what: str) -> None:
+    """Refuse a GIS source that is neither a regular file nor a folder, before opening it.
+
+    GDAL reads some datasets from folders (an Esri File Geodatabase ``.gdb``, a folder of
+    Shapefiles); a named pipe, socket or device would make the reader wait or fail obscurely.
+    """
+    if not os.path.isdir(path):
+        require_regular_file(path, what, CoastError)
+
+
 def invalid_geometry(path, layer, exc: Exception) -> str:
     """Why a vector file's geometry cannot be read, naming the first feature GEOS refuses.
 
@@ -828,7 +840,7 @@ def _crs_label(crs: pyproj.CRS) -> str:
 def _read_frame(name: str, layer) -> tuple[geopandas.GeoDataFrame, str | None]:
     if not os.path.exists(name):
         raise CoastError(f"{name}: coast file not found; {_EXPECTED}")
-    require_regular_file(name, "coast file", CoastError, folders=True)
+    require_gis_source(name, "coast file")
     layers = np.empty((0, 2), dtype=object)
     try:
         layers = pyogrio.list_layers(name)

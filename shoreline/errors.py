@@ -37,32 +37,3 @@ def one_line(text: object) -> str:
     'Error tokenizing data. Expected 4 fields'
     """
     return " ".join(str(text).split())
-
-
-def require_regular_file(
-    path, what: str, error: type[ShorelineError] = ShorelineError, folders: bool = False
-) -> None:
-    """Refuse a path that is missing or is not a regular file, before anything opens it.
-
-    A named pipe, a device or a socket would block or stream forever when read, so each reader
-    checks its path first. ``folders=True`` also accepts a directory, for GIS datasets that are
-    folders (an Esri File Geodatabase ``.gdb``, a folder of Shapefiles).
-
-    Raises
-    ------
-    ShorelineError
-        Of the class ``error``, naming the path and ``what`` it should be.
-    """
-    import os
-    import stat
-
-    try:
-        mode = os.stat(path).st_mode
-    except FileNotFoundError:
-        raise error(f"{path}: {what} not found") from None
-    except OSError as exc:
-        raise error(f"{path}: cannot open the {what} ({one_line(exc.strerror)})") from None
-    if stat.S_ISREG(mode) or (folders and stat.S_ISDIR(mode)):
-        return
-    kind = "a folder" if stat.S_ISDIR(mode) else "not a regular file (a pipe, device or socket)"
-    raise error(f"{path}: the {what} is {kind}; give the path of a file")

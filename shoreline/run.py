@@ -44,8 +44,9 @@ from shoreline.coast import (
     invalid_geometry,
     lay_out_transects,
     read_coast,
+    require_gis_source,
 )
-from shoreline.errors import CoastError, StudyError, one_line, require_regular_file
+from shoreline.errors import CoastError, StudyError, one_line
 from shoreline.exposure import Exposure, compute_exposure
 from shoreline.structures import Structures, Trapping, read_structures
 from shoreline.study import Study
@@ -397,7 +398,7 @@ def load_land(study: Study, transects: Transects) -> list:
     path = study.folder / name
     if not path.exists():
         raise CoastError(f"{path}: land file ([coast] land) not found")
-    require_regular_file(path, "land file ([coast] land)", CoastError, folders=True)
+    require_gis_source(path, "land file ([coast] land)")
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore", RuntimeWarning)  # GDAL's note on unclosed rings

@@ -39,8 +39,9 @@ from shoreline.coast import (
     check_frame_lonlat,
     interp_extrapolate,
     invalid_geometry,
+    require_gis_source,
 )
-from shoreline.errors import CoastError, one_line, require_regular_file
+from shoreline.errors import CoastError, one_line
 
 
 @dataclass(frozen=True)
@@ -83,7 +84,7 @@ def read_structures(
 
     path = Path(path)
     name = path.name
-    require_regular_file(path, "structures file", CoastError, folders=True)
+    require_gis_source(path, "structures file")
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore", RuntimeWarning)  # GDAL's note on unclosed rings

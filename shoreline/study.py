@@ -17,7 +17,7 @@ from pathlib import Path
 from typing import Any
 
 from shoreline.bounds import BOUNDS
-from shoreline.errors import StudyError, require_regular_file
+from shoreline.errors import StudyError
 
 if sys.version_info >= (3, 11):
     import tomllib
@@ -37,6 +37,10 @@ class Key:
     required: bool = False
     check: Callable[[Any], str | None] | None = None
     doc: str = ""
+
+
+def _positive(v: Any) -> str | None:
+    return None if isinstance(v, (int, float)) and v > 0 else "a number > 0"
 
 
 def _non_negative(v: Any) -> str | None:
@@ -479,7 +483,9 @@ CALIBRATION_KEYS: dict[str, Key] = {
     "x": Key("float", doc="x of the point in the coast file's CRS"),
     "y": Key("float", doc="y of the point in the coast file's CRS"),
     "structure": Key("str", doc="or the id of a structure: the transport arriving at it"),
-    "net_m3_per_yr": Key("float", required=True, check=_positive, doc="known net transport"),
+    "net_m3_per_yr": Key(
+        "float", required=True, check=_bounded("net_m3_per_yr"), doc="known net transport"
+    ),
     "toward_deg": Key(
         "float", required=True, check=_direction, doc="azimuth toward which the sand moves"
     ),
@@ -533,7 +539,6 @@ def read_study(path: str | Path) -> Study:
         column), or fails :func:`validate`.
     """
     path = Path(path)
-    require_regular_file(path, "study file", StudyError)
     try:
         text = path.read_text(encoding="utf-8")
     except FileNotFoundError:

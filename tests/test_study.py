@@ -227,3 +227,11 @@ def test_every_bound_documented():
     for key, bound in BOUNDS.items():
         assert f"| `{key}` | {bound.text()} | {bound.source} ({bound.basis}) |" in table, key
     assert f"{MAX_TRANSECTS:,}" in table
+
+
+def test_calibration_rate_has_a_physical_bound(tmp_path):
+    table = '\n[[calibration]]\nname = "pier"\nlon = 3.0\nlat = 43.0\ntoward_deg = 90.0\n'
+    read_study(write(tmp_path, BASE + table + "net_m3_per_yr = 250000.0\n"))
+    with pytest.raises(StudyError) as err:
+        read_study(write(tmp_path, BASE + table + "net_m3_per_yr = 1e12\n"))
+    assert "net_m3_per_yr" in str(err.value) and "<= 10000000 m3/yr" in str(err.value)

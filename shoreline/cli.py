@@ -313,7 +313,7 @@ def _waves_text(scenario) -> str:
         text = f"Hs {c.hs_m[0]:.1f} m, Tp {c.tp_s[0]:.1f} s, from {c.dir_deg[0]:.0f} deg"
         limit = scenario.info.get("scenario", {}).get("growth_limit")
         return text + (f" ({limit}-limited)" if limit else "")
-    mean = float(np.average(c.hs_m, weights=c.duration_s))
+    mean = float(np.mean(np.average(c.hs_m, axis=-1, weights=c.duration_s)))
     return f"record of {len(c)} steps, mean Hs {mean:.2f} m"
 
 

@@ -15,10 +15,33 @@ from typing import Any
 
 import numpy as np
 
-from shoreline.errors import WaveRecordError
+from shoreline.bounds import BOUNDS, LATITUDE_DEG, LONGITUDE_DEG, NETCDF_DEFAULT_FILL
+from shoreline.errors import WaveRecordError, one_line
+from shoreline.folders import require_regular_file
 
 #: The columns a wave record CSV must have.
 RECORD_COLUMNS = ("time", "hs_m", "tp_s", "dir_deg")
+
+
+def _fill_values(values: np.ndarray) -> np.ndarray:
+    """Where a record holds netCDF's default fill value: missing, not a wave (infinity is not)."""
+    with np.errstate(invalid="ignore"):
+        return np.isfinite(values) & (np.abs(values) >= NETCDF_DEFAULT_FILL)
+
+
+def _range_checks(hs: np.ndarray, tp: np.ndarray, dr: np.ndarray) -> tuple:
+    """``(column, values, ok, expected)`` of each record column against its bound."""
+    with np.errstate(invalid="ignore"):
+        return (
+            ("hs_m", hs, BOUNDS["hs_m"].contains(hs), _expect("height", "hs_m")),
+            ("tp_s", tp, BOUNDS["tp_s"].contains(tp), _expect("period", "tp_s")),
+            ("dir_deg", dr, (dr >= 0) & (dr <= 360), "a direction in [0, 360]"),
+        )
+
+
+def _expect(what: str, key: str) -> str:
+    bound = BOUNDS[key]
+    return f"a {what} {bound.text()} ({bound.source})"
 
 
 @dataclass(frozen=True)
@@ -144,8 +167,10 @@ def read_record_csv(path: str | Path, depth_m: float, max_gap_h: float = 6.0) ->
     """Read a wave record CSV with columns ``time`` (ISO 8601), ``hs_m``, ``tp_s``, ``dir_deg``.
 
     Lines starting with ``#`` are comments. Times must increase. Rows with an empty or NaN value
-    are skipped and counted; a value that is not a number, a time that cannot be read, a
-    height or period <= 0, or a direction outside [0, 360] is an error naming the line.
+    (or netCDF's default fill value, :data:`shoreline.bounds.NETCDF_DEFAULT_FILL`) are skipped
+    and counted; a value that is not a number, a time that cannot be read, a height or period
+    outside its bound (:data:`shoreline.bounds.BOUNDS`, infinity too), or a direction outside
+    [0, 360] is an error naming the line.
 
     Raises
     ------
@@ -156,12 +181,13 @@ def read_record_csv(path: str | Path, depth_m: float, max_gap_h: float = 6.0) ->
 
     path = Path(path)
     name = path.name
+    require_regular_file(path, "wave record file", WaveRecordError)
     try:
         frame = pd.read_csv(path, comment="#", dtype=str, skipinitialspace=True)
     except FileNotFoundError:
         raise WaveRecordError(f"{path}: wave record file not found") from None
     except (OSError, UnicodeDecodeError, pd.errors.ParserError) as exc:
-        raise WaveRecordError(f"{path}: cannot read the wave record ({exc})") from None
+        raise WaveRecordError(f"{path}: cannot read the wave record ({one_line(exc)})") from None
     except pd.errors.EmptyDataError:
         raise WaveRecordError(f"{path}: the wave record is empty") from None
     frame.columns = [str(c).strip() for c in frame.columns]
@@ -179,14 +205,18 @@ def read_record_csv(path: str | Path, depth_m: float, max_gap_h: float = 6.0) ->
     for col in RECORD_COLUMNS[1:]:
         text = frame[col].fillna("").str.strip()
         is_blank = text.str.lower().isin(["", "nan", "na"])
-        num = pd.to_numeric(text.where(~is_blank, "nan"), errors="coerce").to_numpy(float)
+        num = pd.to_numeric(text.where(~is_blank, "nan"), errors="coerce").to_numpy(
+            float, copy=True
+        )
         bad = np.flatnonzero(np.isnan(num) & ~is_blank.to_numpy())
         if bad.size:
             i = bad[0]
             raise WaveRecordError(
                 f"{name}: line {lines[i]}: {col} = {text.iloc[i]!r} is not a number"
             )
-        blank |= is_blank.to_numpy()
+        fill = _fill_values(num)
+        num[fill] = np.nan
+        blank |= is_blank.to_numpy() | fill
         values[col] = num
     try:
         time = pd.to_datetime(frame["time"].str.strip(), utc=True, format="ISO8601")
@@ -200,11 +230,7 @@ def read_record_csv(path: str | Path, depth_m: float, max_gap_h: float = 6.0) ->
     t = time.dt.tz_convert(None).to_numpy().astype("datetime64[s]")
     keep = ~blank
     hs, tp, dr = values["hs_m"], values["tp_s"], values["dir_deg"]
-    for col, arr, ok, expect in (
-        ("hs_m", hs, hs > 0, "a height > 0"),
-        ("tp_s", tp, tp > 0, "a period > 0"),
-        ("dir_deg", dr, (dr >= 0) & (dr <= 360), "a direction in [0, 360]"),
-    ):
+    for col, arr, ok, expect in _range_checks(hs, tp, dr):
         bad = np.flatnonzero(keep & ~ok)
         if bad.size:
             i = bad[0]
@@ -289,12 +315,11 @@ def read_record_netcdf(
         raise WaveRecordError(
             f"{name}: reading netCDF needs xarray and netCDF4: pip install xarray netCDF4"
         ) from None
-    if not path.exists():
-        raise WaveRecordError(f"{path}: wave record file not found")
+    require_regular_file(path, "wave record file", WaveRecordError)
     try:
         ds = xr.open_dataset(path)
     except Exception as exc:  # any backend failure is a file the user must fix
-        raise WaveRecordError(f"{path}: cannot read as netCDF ({exc})") from None
+        raise WaveRecordError(f"{path}: cannot read as netCDF ({one_line(exc)})") from None
     with ds:
         found = {}
         for key, (standard, units) in CF_VARIABLES.items():
@@ -328,7 +353,7 @@ def read_record_netcdf(
                     f"{found['hs_m'].dims}"
                 )
             order = (point_dim, time_name) if point_dim else (time_name,)
-            arrays[key] = np.asarray(var.transpose(*order).values, dtype=float)
+            arrays[key] = np.array(var.transpose(*order).values, dtype=float)
         time = np.asarray(ds[time_name].values)
         if not np.issubdtype(time.dtype, np.datetime64):
             raise WaveRecordError(
@@ -349,20 +374,19 @@ def read_record_netcdf(
             if depth_from_file and depth_vars:
                 depth = np.asarray(ds[depth_vars[0]].values, dtype=float).reshape(-1)
     hs, tp, dr = arrays["hs_m"], arrays["tp_s"], arrays["dir_deg"]
+    for arr in (hs, tp, dr):  # a variable without _FillValue holds the default where unwritten
+        arr[_fill_values(arr)] = np.nan
     missing = np.isnan(hs) | np.isnan(tp) | np.isnan(dr)
     blank = missing.any(axis=0) if missing.ndim == 2 else missing
     keep = ~blank
-    for key, arr, ok, expect in (
-        ("hs_m", hs, hs > 0, "heights > 0"),
-        ("tp_s", tp, tp > 0, "periods > 0"),
-        ("dir_deg", dr, (dr >= 0) & (dr <= 360), "directions in [0, 360]"),
-    ):
+    for key, arr, ok, expect in _range_checks(hs, tp, dr):
         bad = ~ok & ~np.isnan(arr)
         if bad.any():
             where = np.argwhere(bad)[0]
+            point = f", wave point {where[0]}" if arr.ndim == 2 else ""
             raise WaveRecordError(
-                f"{name}: {key} = {arr[tuple(where)]:g} at time index {where[-1]}: "
-                f"expected {expect}"
+                f"{name}: variable {str(found[key].name)!r} ({key}) = {arr[tuple(where)]:g} at "
+                f"time index {where[-1]}{point}: expected {expect}"
             )
     t = time.astype("datetime64[s]")
     if np.any(np.diff(t.astype(np.int64)) <= 0):
@@ -373,8 +397,11 @@ def read_record_netcdf(
     duration = durations_s(t, max_gap_h * 3600.0)
     skipped = int(blank.sum())
     warnings = [f"{name}: skipped {skipped} time steps with a missing value"] if skipped else []
-    if depth is not None and not np.all(depth > 0):
-        raise WaveRecordError(f"{name}: the depth of every wave point must be > 0 m")
+    if depth is not None and not np.all(BOUNDS["depth_m"].contains(depth)):
+        raise WaveRecordError(
+            f"{name}: the depth of every wave point must be {BOUNDS['depth_m'].text()} "
+            f"(found {', '.join(f'{d:g}' for d in depth)})"
+        )
     sel = (slice(None), keep) if hs.ndim == 2 else keep
     return WaveClimate(
         hs_m=hs[sel],
@@ -404,9 +431,18 @@ def _time_coordinate(ds: Any, name: str) -> str:
 
 
 def _point_coordinate(ds: Any, dim: str, standard: str, name: str) -> np.ndarray:
+    low, high = LONGITUDE_DEG if standard == "longitude" else LATITUDE_DEG
     for v in ds.variables:
         if ds[v].attrs.get("standard_name") == standard and ds[v].dims == (dim,):
-            return np.asarray(ds[v].values, dtype=float)
+            values = np.asarray(ds[v].values, dtype=float)
+            with np.errstate(invalid="ignore"):
+                bad = np.flatnonzero(~((values >= low) & (values <= high)))
+            if bad.size:
+                raise WaveRecordError(
+                    f"{name}: variable {str(v)!r} ({standard}) is {values[bad[0]]:g} at wave "
+                    f"point {bad[0]}; expected a {standard} in [{low:g}, {high:g}] degrees"
+                )
+            return values
     raise WaveRecordError(
         f"{name}: the wave points (dimension {dim!r}) need a {standard} variable "
         f"(standard_name {standard!r}) along {dim!r}"

@@ -48,14 +48,21 @@ from scipy.sparse import coo_matrix
 from scipy.sparse.csgraph import connected_components
 from scipy.spatial import cKDTree
 
-from shoreline.errors import CoastError
+from shoreline.bounds import LATITUDE_DEG, LONGITUDE_DEG, MAX_TRANSECTS
+from shoreline.errors import CoastError, one_line
+from shoreline.folders import require_regular_file
 
 __all__ = [
     "SEA_SIDES",
     "CoastLines",
     "Transects",
+    "check_frame_lonlat",
+    "check_lonlat",
+    "check_transect_count",
+    "invalid_geometry",
     "lay_out_transects",
     "read_coast",
+    "require_gis_source",
     "working_crs_for",
 ]
 
@@ -568,6 +575,8 @@ def read_coast(
             f"{name}: coordinates of features {_ids(bad)} cannot be converted from "
             f"{_crs_label(source_crs)} to longitude/latitude; check the file's CRS"
         )
+    check_lonlat(name, source_crs, coords, lon, lat, part_feat[vidx])
+    _refuse_spikes(name, coords, vidx, part_feat, n_lines)
     west, east = _lon_extent(lon)
     working = _working_crs_from_extent(west, float(lat.min()), east, float(lat.max()))
 
@@ -691,6 +700,171 @@ def vertex_noise(xy: np.ndarray, vidx: np.ndarray) -> tuple[float, float]:
     return float(np.median(seg[good])), float(np.sqrt(np.median(d[good] ** 2) / (0.455 * 1.5)))
 
 
+def require_gis_source(path, what: str) -> None:
+    """Refuse a GIS source that is neither a regular file nor a folder, before opening it.
+
+    GDAL reads some datasets from folders (an Esri File Geodatabase ``.gdb``, a folder of
+    Shapefiles); a named pipe, socket or device would make the reader wait or fail obscurely.
+    """
+    if not os.path.isdir(path):
+        require_regular_file(path, what, CoastError)
+
+
+def invalid_geometry(path, layer, exc: Exception) -> str:
+    """Why a vector file's geometry cannot be read, naming the first feature GEOS refuses.
+
+    GDAL hands over what it reads (a line of one vertex, a polygon ring that is not closed);
+    shapely refuses it when it builds the geometries, for the whole file at once. This reads
+    the raw geometries again and finds the feature, to say which and what is wrong in one line.
+    """
+    import pyogrio.raw
+
+    reason = one_line(str(exc).split(":", 1)[-1])
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", RuntimeWarning)
+            wkb = pyogrio.raw.read(path, layer=layer, columns=[])[2]
+    except Exception:  # the first failure already says enough
+        return f"holds a geometry that cannot be read ({reason})"
+    wkb = np.asarray(wkb, dtype=object)
+    built = shapely.from_wkb(wkb, on_invalid="ignore")
+    bad = np.flatnonzero(np.not_equal(wkb, None) & shapely.is_missing(built))
+    if bad.size == 0:
+        return f"holds a geometry that cannot be read ({reason})"
+    try:
+        shapely.from_wkb(wkb[bad[0]])
+    except shapely.errors.GEOSException as first:
+        reason = one_line(str(first).split(":", 1)[-1])
+    for words, plain in _GEOS_REASONS:
+        if words in reason:
+            reason = plain
+            break
+    return f"feature {int(bad[0])} (counted from 0) is {reason}; fix it in a GIS"
+
+
+#: GEOS's words for a geometry it refuses, and the same said plainly.
+_GEOS_REASONS = (
+    ("point array must contain 0 or >1 elements", "a line with a single vertex (a line needs two)"),
+    (
+        "do not form a closed linestring",
+        "a polygon ring that is not closed (its last vertex must repeat its first)",
+    ),
+    ("must be 0 or >= 4", "a polygon ring of fewer than 4 vertices (a triangle needs 4, closed)"),
+)
+
+
+def check_lonlat(name, crs, coords, lon, lat, feature) -> None:
+    """Refuse vertices whose longitude or latitude is out of range, naming the likely cause.
+
+    ``coords`` are the vertices in the file's CRS, ``lon``/``lat`` the same on WGS 84 and
+    ``feature`` the feature of each vertex. In a geographic file, coordinates far beyond any
+    degree (more than 1000) are metres under a wrong CRS.
+    """
+    lon_lo, lon_hi = LONGITUDE_DEG
+    lat_lo, lat_hi = LATITUDE_DEG
+    ok = (lon >= lon_lo) & (lon <= lon_hi) & (lat >= lat_lo) & (lat <= lat_hi)
+    if ok.all():
+        if not crs.is_geographic:
+            _check_projected_domain(name, crs, coords, lon, lat, feature)
+        return
+    i = int(np.flatnonzero(~ok)[0])
+    x, y = coords[i, 0], coords[i, 1]
+    if crs.is_geographic and max(abs(x), abs(y)) > 1000.0:
+        raise CoastError(
+            f"{name}: the coordinates look like metres (feature {feature[i]} has a vertex at "
+            f"{x:.10g}, {y:.10g}); the file's CRS {_crs_label(crs)} says degrees: set the CRS the "
+            "file was drawn in (a projected CRS) in a GIS"
+        )
+    raise CoastError(
+        f"{name}: feature {feature[i]} has a vertex at longitude {lon[i]:.10g}, latitude "
+        f"{lat[i]:.10g}; expected longitudes in [{lon_lo:g}, {lon_hi:g}] and latitudes in "
+        f"[{lat_lo:g}, {lat_hi:g}] degrees: check the file's CRS"
+    )
+
+
+def check_frame_lonlat(name, frame: geopandas.GeoDataFrame) -> None:
+    """:func:`check_lonlat` on every vertex of a GeoDataFrame that has a CRS."""
+    geoms = np.asarray(frame.geometry.array, dtype=object)
+    coords, index = shapely.get_coordinates(geoms, return_index=True)
+    if len(coords) == 0:
+        return
+    crs = pyproj.CRS.from_user_input(frame.crs)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        lon, lat = _lonlat_transformer(crs).transform(coords[:, 0], coords[:, 1])
+    check_lonlat(name, crs, coords, np.asarray(lon), np.asarray(lat), index)
+
+
+def _check_projected_domain(name, crs, coords, lon, lat, feature) -> None:
+    """Refuse projected coordinates that do not come back from longitude/latitude.
+
+    Beyond the edge of its world a projection wraps: Web Mercator x = 1e9 m is read as some
+    longitude and projects back to another x. More than 1 km of difference is such a wrap (a
+    round trip is exact to far less than a millimetre where the projection is valid).
+    """
+    back = pyproj.Transformer.from_crs(pyproj.CRS.from_epsg(4326), crs, always_xy=True)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        x, y = back.transform(lon, lat)
+    with np.errstate(invalid="ignore"):
+        off = ~(np.hypot(np.asarray(x) - coords[:, 0], np.asarray(y) - coords[:, 1]) <= 1000.0)
+    if off.any():
+        i = int(np.flatnonzero(off)[0])
+        raise CoastError(
+            f"{name}: feature {feature[i]} has a vertex at {coords[i, 0]:.10g}, "
+            f"{coords[i, 1]:.10g}, beyond the range of the file's CRS {_crs_label(crs)}: check "
+            "the file's CRS"
+        )
+
+
+def _refuse_spikes(name, coords, vidx, part_feat, n_lines) -> None:
+    """Refuse a line that turns back exactly on itself (a spike): no orientation there.
+
+    Where the line retraces its last segment the shore behind and ahead of the vertex are the
+    same ground, so the orientation (from the shore behind to the shore ahead) is undefined.
+    Polygons are left to make_valid. A turn within 1e-12 rad of 180 degrees counts.
+    """
+    on_line = vidx < n_lines
+    xy, part = coords[on_line], vidx[on_line]
+    if len(xy) < 3:
+        return
+    keep = np.r_[True, (part[1:] != part[:-1]) | np.any(xy[1:] != xy[:-1], axis=1)]
+    xy, part = xy[keep], part[keep]
+    if len(xy) < 3:
+        return
+    u = xy[1:-1] - xy[:-2]  # the segment into each interior vertex
+    w = xy[2:] - xy[1:-1]  # and out of it
+    inside = (part[:-2] == part[1:-1]) & (part[1:-1] == part[2:])
+    cross = u[:, 0] * w[:, 1] - u[:, 1] * w[:, 0]
+    dot = np.sum(u * w, axis=1)
+    size = np.hypot(*u.T) * np.hypot(*w.T)
+    spike = inside & (dot < 0) & (np.abs(cross) <= 1e-12 * size)
+    if spike.any():
+        i = int(np.flatnonzero(spike)[0]) + 1
+        raise CoastError(
+            f"{name}: feature {part_feat[part[i]]} turns back on itself at {xy[i, 0]:.10g}, "
+            f"{xy[i, 1]:.10g} (a spike: the line retraces its last segment, so the shore has no "
+            "orientation there); remove the spike in a GIS"
+        )
+
+
+def check_transect_count(coast: CoastLines, spacing_m: float) -> None:
+    """Refuse a spacing that would lay out more than :data:`MAX_TRANSECTS` transects.
+
+    The count is estimated from the grid length of the shore (within the scale factor of the
+    working CRS, a few parts in a thousand) before any transect is laid out.
+    """
+    length_m = float(np.sum(shapely.length(np.asarray(coast.parts, dtype=object))))
+    estimate = length_m / float(spacing_m) + len(coast.parts)
+    if estimate > MAX_TRANSECTS:
+        label = f"{coast.path}: " if coast.path else ""
+        raise CoastError(
+            f"{label}spacing_m = {spacing_m:g} would lay out about {estimate:,.0f} transects on "
+            f"{length_m / 1000:,.0f} km of shore; the limit is {MAX_TRANSECTS:,}: increase "
+            "spacing_m or split the coast into several studies"
+        )
+
+
 _TYPE_NAMES = {
     0: "Point",
     1: "LineString",
@@ -711,12 +885,16 @@ def _crs_label(crs: pyproj.CRS) -> str:
 def _read_frame(name: str, layer) -> tuple[geopandas.GeoDataFrame, str | None]:
     if not os.path.exists(name):
         raise CoastError(f"{name}: coast file not found; {_EXPECTED}")
+    require_gis_source(name, "coast file")
     layers = np.empty((0, 2), dtype=object)
     try:
         layers = pyogrio.list_layers(name)
         with warnings.catch_warnings():
             warnings.simplefilter("ignore", UserWarning)
+            warnings.simplefilter("ignore", RuntimeWarning)  # GDAL's note on unclosed rings
             frame = geopandas.read_file(name, layer=layer, engine="pyogrio")
+    except shapely.errors.GEOSException as exc:
+        raise CoastError(f"{name}: {invalid_geometry(name, layer, exc)}") from None
     except pyogrio.errors.DataLayerError as exc:
         listing = ", ".join(repr(str(n)) for n in layers[:, 0])
         raise CoastError(
@@ -724,14 +902,14 @@ def _read_frame(name: str, layer) -> tuple[geopandas.GeoDataFrame, str | None]:
             "[coast] section to one of them"
         ) from exc
     except (pyogrio.errors.DataSourceError, pyogrio.errors.CRSError, OSError) as exc:
-        reason = str(exc).split(";")[0]
+        reason = one_line(str(exc).split(";")[0])
         raise CoastError(f"{name}: cannot be read ({reason}); {_EXPECTED}") from exc
     except (
         pyogrio.errors.FeatureError,
         pyogrio.errors.GeometryError,
         pyogrio.errors.FieldError,
     ) as exc:
-        raise CoastError(f"{name}: cannot be read ({exc}); {_EXPECTED}") from exc
+        raise CoastError(f"{name}: cannot be read ({one_line(exc)}); {_EXPECTED}") from exc
     if not isinstance(frame, geopandas.GeoDataFrame) or frame.geometry.name not in frame:
         raise CoastError(f"{name}: holds no geometry column; {_EXPECTED}")
     if len(frame) == 0:
@@ -869,7 +1047,10 @@ def _project_densified(coords, vidx, source_crs, working) -> tuple[np.ndarray, n
     step = np.arange(len(rep)) - np.repeat(np.cumsum(pieces) - pieces, pieces)
     t = step / pieces[rep]
     nxt = np.where(same[rep], rep + 1, rep)
-    src = coords[rep] + t[:, None] * (coords[nxt] - coords[rep])
+    delta = coords[nxt] - coords[rep]
+    if source_crs.is_geographic:  # across the 180th meridian the short way, not round the globe
+        delta[:, 0] -= 360.0 * np.round(delta[:, 0] / 360.0)
+    src = coords[rep] + t[:, None] * delta
     new = t > 0
     out = xy[rep].copy()
     if new.any():

@@ -26,3 +26,14 @@ class WaveRecordError(ShorelineError):
 
 class OutputError(ShorelineError):
     """An output folder cannot be written."""
+
+
+def one_line(text: object) -> str:
+    r"""A library's message as one line: runs of whitespace (newlines too) become one space.
+
+    Examples
+    --------
+    >>> one_line("Error tokenizing data.\n  Expected 4 fields\n")
+    'Error tokenizing data. Expected 4 fields'
+    """
+    return " ".join(str(text).split())

@@ -519,7 +519,7 @@ def scenario_summary(result: RunResult, scenario: ScenarioResult) -> dict[str, A
         waves_info |= {
             "records": len(c),
             "records_skipped": c.skipped,
-            "hs_mean_m": float(np.average(c.hs_m, weights=c.duration_s)),
+            "hs_mean_m": float(np.mean(np.average(c.hs_m, axis=-1, weights=c.duration_s))),
             "hs_max_m": float(c.hs_m.max()),
         }
     waves_info["depth_m"] = "deep" if math.isinf(c.depth_m) else c.depth_m

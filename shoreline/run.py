@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import os
 import time
+import warnings
 from collections.abc import Callable
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field, fields, replace
@@ -35,8 +36,17 @@ from shoreline.climate import (
     read_record,
     steady,
 )
-from shoreline.coast import CoastLines, Transects, lay_out_transects, read_coast
-from shoreline.errors import CoastError, StudyError
+from shoreline.coast import (
+    CoastLines,
+    Transects,
+    check_frame_lonlat,
+    check_transect_count,
+    invalid_geometry,
+    lay_out_transects,
+    read_coast,
+    require_gis_source,
+)
+from shoreline.errors import CoastError, StudyError, one_line
 from shoreline.exposure import Exposure, compute_exposure
 from shoreline.reaches import read_reaches, shore_types
 from shoreline.structures import Structures, Trapping, read_structures
@@ -368,6 +378,7 @@ def load_transects(study: Study) -> tuple[CoastLines, Transects]:
     coast = read_coast(
         study.coast_file, layer=c["layer"], crs=c["crs"], sea=sea, polygons=c["polygons"]
     )
+    check_transect_count(coast, c["spacing_m"])
     transects = lay_out_transects(
         coast, spacing_m=c["spacing_m"], orientation_window_m=c["orientation_window_m"]
     )
@@ -415,12 +426,18 @@ def load_land(study: Study, transects: Transects) -> list:
     path = study.folder / name
     if not path.exists():
         raise CoastError(f"{path}: land file ([coast] land) not found")
+    require_gis_source(path, "land file ([coast] land)")
     try:
-        frame = gpd.read_file(path, engine="pyogrio")
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", RuntimeWarning)  # GDAL's note on unclosed rings
+            frame = gpd.read_file(path, engine="pyogrio")
+    except shapely.errors.GEOSException as exc:
+        raise CoastError(f"{path}: {invalid_geometry(path, None, exc)}") from None
     except Exception as exc:  # any reader failure is the user's file to fix
-        raise CoastError(f"{path}: cannot read the land file ({exc})") from None
+        raise CoastError(f"{path}: cannot read the land file ({one_line(exc)})") from None
     if frame.crs is None:
         raise CoastError(f"{path.name}: the land file has no CRS; save it with one")
+    check_frame_lonlat(path.name, frame)
     geoms = frame.to_crs(transects.working_crs).geometry
     return [g for g in geoms if g is not None and not g.is_empty]
 
@@ -429,6 +446,8 @@ def _only_polygons(path, layer) -> bool:
     """True if the file's layer declares polygon geometry only (lines need a sea side)."""
     import pyogrio
 
+    if not (os.path.isfile(path) or os.path.isdir(path)):
+        return True  # missing, or a pipe that would block: read_coast says which
     try:
         info = pyogrio.read_info(path, layer=layer)
     except Exception:  # unreadable: read_coast reports it with its own message

@@ -25,14 +25,23 @@ currents); structures also shelter the shore behind them from waves, which
 
 from __future__ import annotations
 
+import warnings
 from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 import shapely
 
-from shoreline.coast import CoastLines, Transects, chainage_positions, interp_extrapolate
-from shoreline.errors import CoastError
+from shoreline.coast import (
+    CoastLines,
+    Transects,
+    chainage_positions,
+    check_frame_lonlat,
+    interp_extrapolate,
+    invalid_geometry,
+    require_gis_source,
+)
+from shoreline.errors import CoastError, one_line
 
 
 @dataclass(frozen=True)
@@ -75,20 +84,24 @@ def read_structures(
 
     path = Path(path)
     name = path.name
+    require_gis_source(path, "structures file")
     try:
-        frame = gpd.read_file(path, layer=layer, engine="pyogrio")
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", RuntimeWarning)  # GDAL's note on unclosed rings
+            frame = gpd.read_file(path, layer=layer, engine="pyogrio")
+    except shapely.errors.GEOSException as exc:
+        raise CoastError(f"{path}: {invalid_geometry(path, layer, exc)}") from None
     except Exception as exc:  # any reader failure: the file is the user's to fix
-        if not path.exists():
-            raise CoastError(f"{path}: structures file not found") from None
-        raise CoastError(f"{path}: cannot read the structures file ({exc})") from None
+        raise CoastError(f"{path}: cannot read the structures file ({one_line(exc)})") from None
     if frame.crs is None:
         raise CoastError(f"{name}: the structures file has no CRS; save it with one")
     if len(frame) == 0:
         raise CoastError(f"{name}: the structures file has no features")
+    check_frame_lonlat(name, frame)
     frame = frame.to_crs(transects.working_crs)
     ids = _ids(frame)
     if "bypass" in frame.columns:
-        values = frame["bypass"].astype(float).to_numpy()
+        values = _bypass_values(name, ids, frame["bypass"])
         per = np.where(np.isnan(values), bypass, values)
     else:
         per = np.full(len(frame), float(bypass))
@@ -126,6 +139,23 @@ def read_structures(
         bypass=np.array([r[3] for r in rows], dtype=float),
         lines=[r[4] for r in rows],
     )
+
+
+def _bypass_values(name: str, ids: list[str], column) -> np.ndarray:
+    """The ``bypass`` attribute as numbers (NaN where empty); a text that is no number is named."""
+    import pandas as pd
+
+    values = pd.to_numeric(column, errors="coerce").to_numpy(dtype=float)
+    text = column.astype(str).str.strip()
+    given = column.notna().to_numpy() & ~text.str.lower().isin(["", "nan", "none"]).to_numpy()
+    bad = np.flatnonzero(np.isnan(values) & given)
+    if bad.size:
+        i = bad[0]
+        raise CoastError(
+            f"{name}: structure {ids[i]!r} has bypass = {column.iloc[i]!r}; expected a share "
+            "in [0, 1] (a number, or empty to use [structures] bypass)"
+        )
+    return values
 
 
 def _ids(frame) -> list[str]:

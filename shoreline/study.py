@@ -16,6 +16,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from shoreline.bounds import BOUNDS
 from shoreline.errors import StudyError
 
 if sys.version_info >= (3, 11):
@@ -46,10 +47,6 @@ def _non_negative(v: Any) -> str | None:
     return None if v >= 0 else "a number >= 0"
 
 
-def _open_unit(v: Any) -> str | None:
-    return None if 0 < v < 1 else "a number between 0 and 1 (exclusive)"
-
-
 def _unit_closed(v: Any) -> str | None:
     return None if 0 <= v <= 1 else "a share between 0 and 1"
 
@@ -69,22 +66,28 @@ def _one_of(*choices: str) -> Callable[[Any], str | None]:
     return check
 
 
-def _depth(v: Any) -> str | None:
-    if isinstance(v, str):
-        return None if v == "deep" else '"deep" or a depth in metres > 0'
-    return None if v > 0 else '"deep" or a depth in metres > 0'
+def _bounded(name: str) -> Callable[[Any], str | None]:
+    """The check of a physical input against its bound (:data:`shoreline.bounds.BOUNDS`)."""
+    return BOUNDS[name].check
 
 
-def _closure(v: Any) -> str | None:
-    if isinstance(v, str):
-        return None if v == "hallermeier" else '"hallermeier" or a depth in metres > 0'
-    return None if v > 0 else '"hallermeier" or a depth in metres > 0'
+def _bounded_or(word: str, name: str) -> Callable[[Any], str | None]:
+    """The check of a value that is either the text ``word`` or a number within its bound."""
+
+    def check(v: Any) -> str | None:
+        if isinstance(v, str):
+            return None if v == word else f"{word!r} or a number {BOUNDS[name].text()}"
+        expected = BOUNDS[name].check(v)
+        return None if expected is None else f"{word!r} or {expected}"
+
+    return check
 
 
-def _window(v: Any) -> str | None:
-    if isinstance(v, str):
-        return None if v == "auto" else '"auto" or a length in metres > 0'
-    return None if v > 0 else '"auto" or a length in metres > 0'
+_depth = _bounded_or("deep", "depth_m")
+_closure = _bounded_or("hallermeier", "closure_depth_m")
+_fetch = _bounded_or("auto", "fetch_km")
+_window = _bounded_or("auto", "orientation_window_m")
+_cerc_k = _bounded_or("del_valle", "cerc_k")
 
 
 def _formulas(v: Any) -> str | None:
@@ -92,12 +95,6 @@ def _formulas(v: Any) -> str | None:
     if bad or not v:
         return "a non-empty list from " + ", ".join(repr(f) for f in KNOWN_FORMULAS)
     return None
-
-
-def _cerc_k(v: Any) -> str | None:
-    if isinstance(v, str):
-        return None if v == "del_valle" else '"del_valle" or a number > 0'
-    return None if v > 0 else '"del_valle" or a number > 0'
 
 
 #: Every section and key of the study file, with type, default and range.
@@ -122,9 +119,14 @@ SCHEMA: dict[str, dict[str, Key]] = {
             doc='reaches to leave out or hold fixed: attribute treat = "exclude" or "non_erodible"',
         ),
         "exposure_distance_m": Key(
-            "float", 20000.0, check=_positive, doc="how far from the shore land is looked for"
+            "float",
+            20000.0,
+            check=_bounded("exposure_distance_m"),
+            doc="how far from the shore land is looked for",
         ),
-        "spacing_m": Key("float", 100.0, check=_positive, doc="transect spacing on the ground"),
+        "spacing_m": Key(
+            "float", 100.0, check=_bounded("spacing_m"), doc="transect spacing on the ground"
+        ),
         "orientation_window_m": Key(
             "float-or-str",
             "auto",
@@ -132,28 +134,36 @@ SCHEMA: dict[str, dict[str, Key]] = {
             doc='shore length each orientation is fitted over; "auto": from the data',
         ),
         "transect_length_m": Key(
-            "float", 500.0, check=_positive, doc="drawn seaward length of each transect"
+            "float",
+            500.0,
+            check=_bounded("transect_length_m"),
+            doc="drawn seaward length of each transect",
         ),
         "crs": Key("str", doc="CRS of a coast file that carries none, e.g. 'EPSG:32631'"),
     },
     "sediment": {
-        "d50_mm": Key("float", 0.3, check=_positive, doc="median grain size"),
-        "porosity": Key("float", 0.4, check=_open_unit, doc="porosity of the deposit"),
-        "density_kg_m3": Key("float", 2650.0, check=_positive, doc="grain density"),
+        "d50_mm": Key("float", 0.3, check=_bounded("d50_mm"), doc="median grain size"),
+        "porosity": Key("float", 0.4, check=_bounded("porosity"), doc="porosity of the deposit"),
+        "density_kg_m3": Key("float", 2650.0, check=_bounded("density_kg_m3"), doc="grain density"),
         "slope": Key(
             "float",
-            check=_positive,
+            check=_bounded("slope"),
             doc="beach slope breaker line to shoreline; else from the equilibrium profile",
         ),
     },
     "waves": {
-        "hs_m": Key("float", check=_positive, doc="significant wave height (steady condition)"),
-        "tp_s": Key("float", check=_positive, doc="peak period (steady condition)"),
+        "hs_m": Key(
+            "float", check=_bounded("hs_m"), doc="significant wave height (steady condition)"
+        ),
+        "tp_s": Key("float", check=_bounded("tp_s"), doc="peak period (steady condition)"),
         "dir_deg": Key("float", check=_direction, doc="direction waves come from, true north"),
         "depth_m": Key("float-or-str", "deep", check=_depth, doc='depth of the waves: "deep"'),
         "file": Key("str", doc="wave record CSV: columns time, hs_m, tp_s, dir_deg"),
         "max_gap_h": Key(
-            "float", 6.0, check=_positive, doc="longest step a record may stand for, hours"
+            "float",
+            6.0,
+            check=_bounded("max_gap_h"),
+            doc="longest step a record may stand for, hours",
         ),
         "chunk_steps": Key(
             "int", 0, check=_non_negative, doc="time steps evaluated at once; 0 = automatic"
@@ -172,10 +182,14 @@ SCHEMA: dict[str, dict[str, Key]] = {
             "float", 0.5, check=_non_negative, doc="angle node spacing for breaking; 0 = direct"
         ),
         "cerc_k": Key("float-or-str", 0.39, check=_cerc_k, doc="CERC coefficient (Hs form)"),
-        "kamphuis_coefficient": Key("float", 2.27, check=_positive, doc="Kamphuis coefficient"),
-        "water_density_kg_m3": Key("float", 1025.0, check=_positive, doc="water density"),
+        "kamphuis_coefficient": Key(
+            "float", 2.27, check=_bounded("kamphuis_coefficient"), doc="Kamphuis coefficient"
+        ),
+        "water_density_kg_m3": Key(
+            "float", 1025.0, check=_bounded("water_density_kg_m3"), doc="water density"
+        ),
         "closure_depth_m": Key("float-or-str", 8.0, check=_closure, doc="closure depth"),
-        "berm_height_m": Key("float", 2.0, check=_non_negative, doc="berm height"),
+        "berm_height_m": Key("float", 2.0, check=_bounded("berm_height_m"), doc="berm height"),
     },
     "structures": {
         "file": Key("str", doc="lines crossing the shore: groynes, jetties, breakwater roots"),
@@ -212,24 +226,20 @@ def _factor(v: Any) -> str | None:
     return None if 0 < v <= 10 else "a factor in (0, 10]"
 
 
-def _fetch(v: Any) -> str | None:
-    if isinstance(v, str):
-        return None if v == "auto" else '"auto" or a fetch in km > 0'
-    return None if v > 0 else '"auto" or a fetch in km > 0'
-
-
 #: Keys of one ``[[scenario]]`` table. A scenario is one of three kinds, told apart by its keys:
 #: a steady storm (``hs_m``, ``tp_s``, ``dir_deg``), a storm from the wind
 #: (``wind_speed_m_s``, ``wind_dir_deg``, ``fetch_km``) or a changed climate (the reference
 #: record or its own ``file``, modified by ``hs_factor``, ``tp_factor``, ``dir_shift_deg``).
 SCENARIO_KEYS: dict[str, Key] = {
     "name": Key("str", required=True, check=_name, doc="name, also its output folder"),
-    "hs_m": Key("float", check=_positive, doc="steady storm: significant height"),
-    "tp_s": Key("float", check=_positive, doc="steady storm: peak period"),
+    "hs_m": Key("float", check=_bounded("hs_m"), doc="steady storm: significant height"),
+    "tp_s": Key("float", check=_bounded("tp_s"), doc="steady storm: peak period"),
     "dir_deg": Key("float", check=_direction, doc="steady storm: direction waves come from"),
     "depth_m": Key("float-or-str", check=_depth, doc="depth of the waves (default: reference's)"),
-    "duration_h": Key("float", check=_positive, doc="length of the event, hours"),
-    "wind_speed_m_s": Key("float", check=_positive, doc="wind storm: wind speed U10"),
+    "duration_h": Key("float", check=_bounded("duration_h"), doc="length of the event, hours"),
+    "wind_speed_m_s": Key(
+        "float", check=_bounded("wind_speed_m_s"), doc="wind storm: wind speed U10"
+    ),
     "wind_dir_deg": Key("float", check=_direction, doc="wind storm: direction wind comes from"),
     "fetch_km": Key("float-or-str", check=_fetch, doc="wind storm: straight-line fetch"),
     "hs_factor": Key("float", check=_factor, doc="changed climate: factor on heights"),
@@ -477,7 +487,9 @@ CALIBRATION_KEYS: dict[str, Key] = {
     "x": Key("float", doc="x of the point in the coast file's CRS"),
     "y": Key("float", doc="y of the point in the coast file's CRS"),
     "structure": Key("str", doc="or the id of a structure: the transport arriving at it"),
-    "net_m3_per_yr": Key("float", required=True, check=_positive, doc="known net transport"),
+    "net_m3_per_yr": Key(
+        "float", required=True, check=_bounded("net_m3_per_yr"), doc="known net transport"
+    ),
     "toward_deg": Key(
         "float", required=True, check=_direction, doc="azimuth toward which the sand moves"
     ),

@@ -153,6 +153,22 @@ def test_long_lonlat_segment_is_straight_in_lonlat(tmp_path):
     assert len(t) == int(parallel_arc_m(LAT0, 0.15) // 500.0) + 1
 
 
+def test_segment_across_the_180th_meridian_goes_the_short_way(tmp_path):
+    # Fiji-like: a two-vertex line along 17 S from 179.98 E to 179.98 W is 0.04 deg of
+    # longitude, about 4.26 km; densified from 179.98 to -179.98 it went the long way round
+    # the globe (38,000 km, hundreds of thousands of transects, out of memory).
+    line = shapely.LineString([(179.98, -17.0), (-179.98, -17.0)])
+    coast = read_coast(write(tmp_path / "antimeridian.geojson", [line], WGS84), sea="right")
+    length = parallel_arc_m(-17.0, 0.04)
+    assert coast.parts[0].length == pytest.approx(length, rel=3e-3)  # grid vs ground (k)
+    t = lay_out_transects(coast, spacing_m=500.0, orientation_window_m=1000.0)
+    assert len(t) == int(length // 500.0) + 1
+    lon, lat = to_lonlat(coast.working_crs, t.x_m, t.y_m)
+    np.testing.assert_allclose(lat, -17.0, atol=1e-7)
+    assert np.all(np.abs(lon) > 179.97)  # on either side of the meridian, not elsewhere
+    assert np.max(np.abs(angdiff(t.normal_az_deg, 180.0))) < 0.01  # sea on the right: south
+
+
 @pytest.mark.parametrize(("sea", "expected"), [("right", 90.0), ("left", 270.0)])
 def test_north_south_shore(tmp_path, sea, expected):
     # A meridian digitised south to north, 2.5 deg off the central meridian, where grid north

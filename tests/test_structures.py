@@ -165,3 +165,13 @@ def test_a_full_jetty_traps_what_the_updrift_side_carries(tmp_path, x_m):
     trap = result.scenarios[0].trapping
     assert trap.q_arriving_m3_per_yr[0] == pytest.approx(np.mean(updrift), rel=1e-3)
     assert trap.trapped_m3_per_yr[0] == pytest.approx(np.mean(updrift), rel=1e-3)
+
+
+def test_bypass_attribute_that_is_not_a_number(tmp_path, capsys):
+    # a text in the bypass column ("high") crashed with pandas' "could not convert string"
+    write_jetty(tmp_path, bypass="high")
+    study = jetty_study(tmp_path, 0.0)
+    code = main(["run", str(study.path), "--no-figures", "--quiet"])
+    err = capsys.readouterr().err
+    assert code == 2 and len(err.strip().splitlines()) == 1
+    assert "jetty.gpkg" in err and "J1" in err and "'high'" in err and "[0, 1]" in err

@@ -540,9 +540,10 @@ def compute_exposure(
     floor_m = min(MIN_START_M, offset_m)
     start_m = np.full(n, offset_m)
     if tree is not None and offset_m > floor_m:
-        clear = _land_along_normal(x, y, nx, ny, k_shore, valid, floor_m, offset_m, seg, tree)
-        clipped = np.clip(START_FRACTION * clear, floor_m, offset_m)
-        start_m = np.where(np.isfinite(clear), clipped, offset_m)
+        ahead = _land_along_normal(x, y, nx, ny, k_shore, valid, floor_m, offset_m, seg, tree)
+        start_m = np.minimum(start_m, np.maximum(START_FRACTION * ahead, floor_m))
+        beside = _land_beside_start(x, y, nx, ny, k_shore, valid, start_m, offset_m, seg, tree)
+        start_m = np.minimum(start_m, np.maximum(START_FRACTION * beside, floor_m))
     start_m = np.where(valid, start_m, np.nan)
     o_grid = np.where(valid, start_m, 0.0) * k_shore
     sx = np.where(valid, x + o_grid * nx, 0.0)
@@ -873,6 +874,40 @@ def _land_along_normal(x, y, nx, ny, k, valid, floor_m, offset_m, seg, tree) -> 
     t = np.where(crossing, t, np.minimum(t0, t1))
     np.minimum.at(clear, rows[li], floor_m + np.maximum(t, 0.0) / kr[li])
     return clear
+
+
+def _land_beside_start(x, y, nx, ny, k, valid, start_m, half_m, seg, tree) -> np.ndarray:
+    """Ground distance to the side, from the ray start, of land crossing the start line [m].
+
+    The start line runs through the ray start parallel to the shore (across the normal),
+    ``half_m`` to either side; inf where no land crosses it.
+    """
+    beside = np.full(len(x), np.inf)
+    rows = np.flatnonzero(valid)
+    if len(rows) == 0:
+        return beside
+    kr = k[rows]
+    sx = x[rows] + start_m[rows] * kr * nx[rows]
+    sy = y[rows] + start_m[rows] * kr * ny[rows]
+    tx, ty = ny[rows] * half_m * kr, -nx[rows] * half_m * kr  # along the shore, grid
+    lines = shapely.linestrings(np.stack([np.c_[sx - tx, sy - ty], np.c_[sx + tx, sy + ty]], 1))
+    li, si = tree.query(lines, predicate="intersects")
+    if len(li) == 0:
+        return beside
+    # Crossing of the start line S + u t (u: unit along the shore) with each segment A + v e.
+    ux, uy = ny[rows][li], -nx[rows][li]
+    wx, wy = seg[si, 0] - sx[li], seg[si, 1] - sy[li]
+    ex, ey = seg[si, 2] - seg[si, 0], seg[si, 3] - seg[si, 1]
+    denom = ux * ey - uy * ex
+    crossing = np.abs(denom) > 1e-12 * np.hypot(ex, ey)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t = np.where(crossing, (wx * ey - wy * ex) / denom, 0.0)
+    t0 = wx * ux + wy * uy  # collinear: the nearer end of the overlap, or 0 if it spans S
+    t1 = t0 + ex * ux + ey * uy
+    spans = (np.minimum(t0, t1) <= 0.0) & (np.maximum(t0, t1) >= 0.0)
+    t = np.where(crossing, np.abs(t), np.where(spans, 0.0, np.minimum(np.abs(t0), np.abs(t1))))
+    np.minimum.at(beside, rows[li], t / kr[li])
+    return beside
 
 
 def _grazing_along_coast(rel, hit_m, cos_turn, start_m, radius_m) -> np.ndarray:

@@ -40,7 +40,11 @@ PLANE = ProjectedCRS(
     ),
     geodetic_crs=pyproj.CRS.from_epsg(4326),
 )
-OFFSET_M = 20.0  # the default start offset
+OFFSET_M = 20.0  # the former default start offset, used by the geometric checks below
+# The geometric core of the ray casting: rays from a 20 m start, every blocker shadowing (no
+# diffraction test of narrow blockers, no grazing rule). The tests whose expected values are
+# plane geometry from that start use it; the rules on top of it are tested further down.
+GEOMETRIC = dict(start_offset_m=OFFSET_M, wavelength_m=None, grazing_radius_m=None)
 GEOD = pyproj.Geod(ellps="WGS84")
 
 
@@ -119,7 +123,7 @@ def test_straight_open_coast_is_open_over_the_half_circle(normal_deg):
     shore = shapely.LineString([(-dx, -dy), (dx, dy)])
     along = np.linspace(-5000.0, 5000.0, 5)
     t = transects_at(along * np.sin(tangent), along * np.cos(tangent), normal_deg)
-    e = compute_exposure(t, [shore])
+    e = compute_exposure(t, [shore], **GEOMETRIC)
     expected = rays_in_half_circle(normal_deg)
     cast = np.isin(e.directions_deg, expected)
     assert e.open.shape == (5, 360) and e.fetch_m.shape == (5, 360)
@@ -140,7 +144,7 @@ def test_noisy_straight_coast_from_lay_out_transects_is_open():
     shore = shapely.LineString(np.column_stack([x, rng.uniform(-2.0, 2.0, x.size)]))
     coast = CoastLines([shore], np.array([False]), np.array([0]), PLANE, PLANE)
     t = lay_out_transects(coast, spacing_m=1000.0, orientation_window_m=1000.0)
-    e = compute_exposure(t, coast.parts)
+    e = compute_exposure(t, coast.parts, **GEOMETRIC)
     for i in range(len(t)):
         expected = rays_in_half_circle(float(t.normal_az_deg[i]))
         np.testing.assert_array_equal(e.open[i], np.isin(e.directions_deg, expected))
@@ -197,7 +201,7 @@ def test_island_shadow_half_width_and_fetch():
     # Plane geometry: rays within asin(R / D') = 11.585 deg of 180 deg meet the island, the fetch
     # along one of them at delta from the centre line is D' cos(delta) - sqrt(R^2 - D'^2 sin^2).
     t = transects_at([0.0, 12000.0], 0.0, 180.0)
-    e = compute_exposure(t, [STRAIGHT], land=[ISLAND])
+    e = compute_exposure(t, [STRAIGHT], land=[ISLAND], **GEOMETRIC)
     d_prime = ISLAND_D_M - OFFSET_M
     half_width = np.degrees(np.arcsin(ISLAND_R_M / d_prime))
     delta = angdiff(e.directions_deg, 180.0)
@@ -245,7 +249,7 @@ def test_island_shadow_matches_plane_geometry(cx, dist, radius):
     # (q < R - 5 m): 0.6 mm / sin 4.7 deg = 7 mm, plus the projection (< 1 cm at 14 km).
     cy = -(radius + max(dist, 250.0))
     t = transects_at(0.0, 0.0, 180.0)
-    e = compute_exposure(t, [STRAIGHT], land=[circle(cx, cy, radius)])
+    e = compute_exposure(t, [STRAIGHT], land=[circle(cx, cy, radius)], **GEOMETRIC)
     cast = np.abs(angdiff(e.directions_deg, 180.0)) <= 90.0
     hit_t, q = ray_disc(0.0, -OFFSET_M, e.directions_deg, cx, cy, radius)
     judged = cast & (np.abs(q - radius) > 0.05) & (np.abs(hit_t - 20000.0) > 0.05)
@@ -268,7 +272,7 @@ def test_headland_shelters_its_lee():
     # Along ray theta the spit (x = 0) is met after 1000 / sin(theta) (plane geometry).
     spit = shapely.LineString([(0.0, 0.0), (0.0, -3000.0)])
     t = transects_at([-1000.0, -14000.0], 0.0, 180.0)
-    e = compute_exposure(t, [STRAIGHT, spit])
+    e = compute_exposure(t, [STRAIGHT, spit], **GEOMETRIC)
     for i, x0 in enumerate((-1000.0, -14000.0)):
         tip = np.degrees(np.arctan2(-x0, -3000.0 + OFFSET_M))
         cast = (e.directions_deg >= 90.0) & (e.directions_deg <= 270.0)
@@ -289,7 +293,7 @@ def test_breakwater_line_blocks_rays():
     # From S = (0, -20) its ends lie at azimuths 180 -+ atan2(500, 380) = 127.23 / 232.77 deg;
     # along ray theta it is met after 380 / |cos(theta)| (plane geometry).
     breakwater = shapely.LineString([(-500.0, -400.0), (500.0, -400.0)])
-    e = compute_exposure(transects_at(0.0, 0.0, 180.0), [STRAIGHT], land=[breakwater])
+    e = compute_exposure(transects_at(0.0, 0.0, 180.0), [STRAIGHT], land=[breakwater], **GEOMETRIC)
     edge = np.degrees(np.arctan2(500.0, 380.0))
     delta = np.abs(angdiff(e.directions_deg, 180.0))
     behind = delta < edge - 0.01
@@ -300,7 +304,9 @@ def test_breakwater_line_blocks_rays():
     np.testing.assert_allclose(e.fetch_m[0, behind], 380.0 / np.abs(np.cos(theta)), atol=0.01)
     # Multi-geometries are taken apart: the same breakwater as a MultiLineString of two halves.
     halves = shapely.MultiLineString([[(-500.0, -400.0), (0.0, -400.0)], [(0, -400), (500, -400)]])
-    e2 = compute_exposure(transects_at(0.0, 0.0, 180.0), [STRAIGHT], land=[halves, None])
+    e2 = compute_exposure(
+        transects_at(0.0, 0.0, 180.0), [STRAIGHT], land=[halves, None], **GEOMETRIC
+    )
     np.testing.assert_array_equal(e2.open, e.open)
 
 
@@ -308,8 +314,8 @@ def test_land_beyond_max_distance_does_not_shelter():
     # The island's near rim is D' - R = 3980 m from the ray start (plane geometry): rays 3 m
     # longer reach it, rays 3 m shorter do not.
     t = transects_at(0.0, 0.0, 180.0)
-    near = compute_exposure(t, [STRAIGHT], land=[ISLAND], max_distance_m=3983.0)
-    far = compute_exposure(t, [STRAIGHT], land=[ISLAND], max_distance_m=3977.0)
+    near = compute_exposure(t, [STRAIGHT], land=[ISLAND], max_distance_m=3983.0, **GEOMETRIC)
+    far = compute_exposure(t, [STRAIGHT], land=[ISLAND], max_distance_m=3977.0, **GEOMETRIC)
     assert not near.is_open(180.0)[0] and far.is_open(180.0)[0]
     assert far.fetch_toward(180.0)[0] == 3977.0
 
@@ -318,7 +324,9 @@ def test_ray_start_inside_land_polygon_is_on_land():
     # A pier 60 m wide covering the ray start (0, -20): the start is on land, so no direction
     # is open and the fetch is 0 (definition).
     pier = shapely.box(-30.0, -200.0, 30.0, 0.0)
-    e = compute_exposure(transects_at([0.0, 5000.0], 0.0, 180.0), [STRAIGHT], land=[pier])
+    e = compute_exposure(
+        transects_at([0.0, 5000.0], 0.0, 180.0), [STRAIGHT], land=[pier], **GEOMETRIC
+    )
     assert not e.open[0].any() and e.exposure_deg[0] == 0.0
     np.testing.assert_array_equal(e.fetch_m[0], 0.0)
     assert np.isnan(e.open_from_deg[0]) and np.isnan(e.open_to_deg[0])
@@ -350,7 +358,7 @@ def test_round_lake_chords():
     pos = np.array([0.0, 37.0, 90.0, 200.0, 311.5])  # azimuth of each shore point from centre
     pr = np.radians(pos)
     t = transects_at(radius * np.sin(pr), radius * np.cos(pr), (pos + 180.0) % 360.0, closed=True)
-    e = compute_exposure(t, [ring])
+    e = compute_exposure(t, [ring], **GEOMETRIC)
     assert not e.open.any()
     np.testing.assert_array_equal(e.exposure_deg, 0.0)
     assert np.isnan(e.open_from_deg).all() and np.isnan(e.open_to_deg).all()
@@ -401,7 +409,7 @@ def test_true_north_and_ground_distance_in_utm():
     rlon, rlat, _ = GEOD.fwd(np.full(720, clon), np.full(720, clat), az, np.full(720, 1000.0))
     island = shapely.Polygon(np.column_stack(fwd.transform(rlon, rlat)))
     t = transects_at(x0, y0, 180.0, crs=utm)
-    e = compute_exposure(t, [shore], land=[island])
+    e = compute_exposure(t, [shore], land=[island], **GEOMETRIC)
     half_width = np.degrees(np.arcsin(1000.0 / 5000.0))
     delta = np.abs(angdiff(e.directions_deg, 200.0))
     assert not e.open[0, delta < half_width - 0.05].any()
@@ -410,8 +418,12 @@ def test_true_north_and_ground_distance_in_utm():
     assert e.fetch_toward(200.0)[0] == pytest.approx(4000.0, abs=0.01)
     # The ray reaches max_distance_m on the ground: 3 m short of the rim it is open, 3 m
     # beyond it blocked (a grid length without the scale factor would fall 4.6 m short).
-    assert compute_exposure(t, [shore], [island], max_distance_m=3997.0).is_open(200.0)[0]
-    assert not compute_exposure(t, [shore], [island], max_distance_m=4003.0).is_open(200.0)[0]
+    assert compute_exposure(t, [shore], [island], max_distance_m=3997.0, **GEOMETRIC).is_open(
+        200.0
+    )[0]
+    assert not compute_exposure(t, [shore], [island], max_distance_m=4003.0, **GEOMETRIC).is_open(
+        200.0
+    )[0]
 
 
 # ---------------------------------------------------------------------------------------------
@@ -425,7 +437,7 @@ def breakwater_exposure() -> Exposure:
     # 127.23..232.77 deg from (0, -20)), transect 2 with an undefined normal.
     breakwater = shapely.LineString([(-500.0, -400.0), (500.0, -400.0)])
     t = transects_at([0.0, 0.0, 3000.0], 0.0, [180.0, 180.0, np.nan])
-    return compute_exposure(t, [STRAIGHT], land=[breakwater])
+    return compute_exposure(t, [STRAIGHT], land=[breakwater], **GEOMETRIC)
 
 
 def test_lookup_shapes_and_nearest_ray(breakwater_exposure):

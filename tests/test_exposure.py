@@ -25,10 +25,17 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from pyproj.crs import ProjectedCRS
 from pyproj.crs.coordinate_operation import TransverseMercatorConversion
+from scipy import integrate
 
 from shoreline.coast import CoastLines, Transects, lay_out_transects
 from shoreline.errors import CoastError
-from shoreline.exposure import Exposure, _widest_open_sector, compute_exposure
+from shoreline.exposure import (
+    DEFAULT_START_M,
+    Exposure,
+    _widest_open_sector,
+    compute_exposure,
+    spreading_weights,
+)
 
 PLANE = ProjectedCRS(
     conversion=TransverseMercatorConversion(
@@ -523,3 +530,280 @@ def test_chunking_does_not_change_the_answer(monkeypatch):
     split = compute_exposure(t, [STRAIGHT, spit], land=[ISLAND])
     np.testing.assert_array_equal(split.open, whole.open)
     np.testing.assert_array_equal(split.fetch_m, whole.fetch_m)
+
+
+# ---------------------------------------------------------------------------------------------
+# Directional spreading: the open share
+# ---------------------------------------------------------------------------------------------
+
+
+def spread_density(s):
+    """cos^2s(x/2) normalised over (-pi, pi] with scipy.integrate.quad (x in radians)."""
+    norm, _ = integrate.quad(lambda x: np.cos(0.5 * x) ** (2 * s), -np.pi, np.pi, epsabs=1e-14)
+    return lambda x: np.cos(0.5 * x) ** (2 * s) / norm
+
+
+def spread_integral(s, lo_deg, hi_deg):
+    """Integral of the normalised cos^2s(x/2) from lo to hi [deg], by quadrature."""
+    density = spread_density(s)
+    lo, hi = np.radians(lo_deg), np.radians(hi_deg)
+    value, _ = integrate.quad(density, lo, hi, epsabs=1e-14, epsrel=1e-12, limit=200)
+    return value
+
+
+@pytest.mark.parametrize("s", [0.0, 1.0, 10.0, 25.0, 75.0])
+@pytest.mark.parametrize("step", [1.0, 5.0])
+def test_spreading_weights_are_quadratures_of_the_spreading_function(s, step):
+    # Each weight is the integral of the normalised cos^2s(dtheta/2) (Longuet-Higgins et al.
+    # 1963, Mitsuyasu et al. 1975; from memory) over its bin of +-step/2, here by
+    # scipy.integrate.quad, an independent reference; they sum to 1 and are circular.
+    w = spreading_weights(s, step)
+    m = int(round(360 / step))
+    assert w.shape == (m,)
+    assert w.sum() == pytest.approx(1.0, abs=1e-12)
+    for d in (0, 1, 2, 7, m // 4, m // 2 - 1):
+        expected = spread_integral(s, (d - 0.5) * step, (d + 0.5) * step)
+        assert w[d] == pytest.approx(expected, abs=1e-12)
+        assert w[m - d if d else 0] == pytest.approx(w[d], abs=1e-15)
+    # Mean resultant length of cos^2s(x/2): s / (s + 1) [derived: cos x = 2 cos^2(x/2) - 1 and
+    # the ratio of consecutive Wallis integrals]. The bins move it by at most
+    # step^2 / 24 (in radians^2) [derived: the mean of cos over a bin of width h is
+    # sinc(h/2) times its central value].
+    centre = np.radians(np.minimum(np.arange(m), m - np.arange(m)) * step)
+    bound = np.radians(step) ** 2 / 24 + 1e-12
+    assert abs(np.sum(w * np.cos(centre)) - s / (s + 1)) <= bound
+
+
+@pytest.mark.parametrize("s", [1.0, 10.0, 25.0, 75.0])
+def test_open_share_of_the_seaward_half_plane_is_the_integral_over_it(s):
+    # A straight open coast whose normal (180.5 deg) lies half-way between rays: the open rays
+    # 91..270 stand for the directions 90.5..270.5, exactly the seaward half-plane. The open
+    # share of a sea with mean direction theta is then the integral of the normalised spread
+    # over that half-plane (definition), here by scipy.integrate.quad.
+    tangent = np.radians(180.5 + 90.0)
+    shore = shapely.LineString(
+        [(-15000 * np.sin(tangent), -15000 * np.cos(tangent)),
+         (15000 * np.sin(tangent), 15000 * np.cos(tangent))]
+    )  # fmt: skip
+    e = compute_exposure(transects_at(0.0, 0.0, 180.5), [shore], spreading_s=s)
+    for mean_deg in (180.0, 160.0, 120.0, 95.0, 60.0, 0.0, 300.0, 270.0):
+        expected = spread_integral(s, 90.5 - mean_deg, 270.5 - mean_deg)
+        assert e.open_share(mean_deg)[0] == pytest.approx(expected, abs=1e-9)
+
+
+@pytest.mark.parametrize("s", [1.0, 10.0, 25.0, 75.0])
+def test_open_share_on_the_normal_is_the_fraction_within_90_degrees(s):
+    # Normal on a ray (180): the two rays at exactly 90 deg count for the seaward half of their
+    # bins, so a sea arriving along the normal gets the fraction of cos^2s(dtheta/2) within
+    # +-90 deg (quadrature), to the error of counting half a bin for the part of it within
+    # 90 deg: |D'(90 deg)| h^2 in all, h = step / 2 in radians [derived: first-order Taylor
+    # expansion of D about 90 deg], with D'(90 deg) = -s 2^-s / norm for cos^2s(x/2) / norm.
+    e = compute_exposure(transects_at(0.0, 0.0, 180.0), [STRAIGHT], spreading_s=s)
+    expected = spread_integral(s, -90.0, 90.0)
+    norm = 1.0 / spread_density(s)(0.0)
+    bound = s * 2.0**-s / norm * np.radians(0.5) ** 2
+    assert abs(e.open_share(180.0)[0] - expected) <= 1.01 * bound + 1e-12
+
+
+@pytest.mark.parametrize("s", [1.0, 10.0, 25.0, 75.0])
+def test_open_share_is_one_half_at_the_edge_of_a_half_blocked_sector(s):
+    # Exact by symmetry: a sea whose mean runs along a straight open coast (90 and 270 deg off
+    # the normal 180) has half its energy on the seaward side, whatever its spread.
+    e = compute_exposure(transects_at(0.0, 0.0, 180.0), [STRAIGHT], spreading_s=s)
+    np.testing.assert_allclose(e.open_share(np.array([[90.0, 270.0]])), 0.5, atol=1e-12)
+    # At a shadow edge between two rays (the tip of a spit: rays 90..161 blocked, 162..270
+    # open, seen from 1 km west of it; plane geometry as in test_headland_shelters_its_lee)
+    # the sector is half blocked over the whole spread (the far edges lie 108 deg away, where
+    # cos^50(54 deg) = 3e-12): the two rays either side of the edge share evenly, so the share
+    # midway between them is 1/2 (symmetry).
+    spit = shapely.LineString([(0.0, 0.0), (0.0, -3000.0)])
+    t = transects_at(-1000.0, 0.0, 180.0)
+    e = compute_exposure(t, [STRAIGHT, spit], spreading_s=25.0, **GEOMETRIC)
+    assert not e.is_open(161.0)[0] and e.is_open(162.0)[0]
+    assert e.open_share(161.0)[0] + e.open_share(162.0)[0] == pytest.approx(1.0, abs=1e-9)
+
+
+def test_large_spreading_parameter_recovers_all_or_nothing():
+    # Limit case: as s grows the spread narrows to its mean direction and the share tends to
+    # the open mask (s = 1e9: a circular spread of sqrt(2 / s) = 0.003 deg). Normals half-way
+    # between rays, so the 90-degree edges fall on bin edges (a bin straddling them counts for
+    # its seaward part). None and inf: no spreading at all, the share is the open mask.
+    spit = shapely.LineString([(0.0, 0.0), (0.0, -3000.0)])
+    t = transects_at(np.linspace(-6000.0, 6000.0, 7), 0.0, 180.5)
+    parts, land = [STRAIGHT, spit], [ISLAND, shapely.LineString([(3000, -400), (3900, -400)])]
+    narrow = compute_exposure(t, parts, land, spreading_s=1e9)
+    np.testing.assert_allclose(narrow.share, narrow.open.astype(float), atol=1e-9)
+    assert narrow.open.any() and not narrow.open.all()
+    for off in (None, np.inf):
+        e = compute_exposure(t, parts, land, spreading_s=off)
+        np.testing.assert_array_equal(e.share, e.open.astype(float))
+        assert e.spreading_s is None
+    # ... and a broad spread does change it (the rule is not idle).
+    assert np.abs(compute_exposure(t, parts, land).share - narrow.open).max() > 0.1
+
+
+def test_open_share_lookup(breakwater_exposure):
+    # Same broadcasting as is_open; the nearest ray's share; a NaN direction gives 0; the share
+    # lies in [0, 1]; a transect with an undefined normal has share 0 everywhere.
+    e = breakwater_exposure
+    assert e.share.shape == (3, 360) and not e.share.flags.writeable
+    assert (e.share >= 0).all() and (e.share <= 1).all()
+    np.testing.assert_array_equal(e.share[2], 0.0)
+    dirs = np.array([[100.0, 180.4, 0.0, np.nan]])
+    got = e.open_share(dirs)
+    assert got.shape == (3, 4)
+    np.testing.assert_array_equal(got[:, :3], e.share[:, [100, 180, 0]])
+    np.testing.assert_array_equal(got[:, 3], 0.0)
+    np.testing.assert_array_equal(e.open_share(180.0, transect_index=[1, 0]), e.share[[1, 0], 180])
+
+
+@pytest.mark.parametrize("value", [-1.0, np.nan])
+def test_bad_spreading_parameter(value):
+    with pytest.raises(ValueError, match="spreading_s"):
+        compute_exposure(transects_at(0.0, 0.0, 180.0), [STRAIGHT], spreading_s=value)
+
+
+# ---------------------------------------------------------------------------------------------
+# The ray start: beyond the surf zone, never past land
+# ---------------------------------------------------------------------------------------------
+
+
+def staircase(amplitude_m=30.0, step_m=150.0, half_length_m=15000.0):
+    """A straight shore (sea south) digitised as a staircase: vertices every step_m along it,
+    alternately amplitude_m seaward and landward of y = 0 (as coarse shoreline data are)."""
+    x = np.arange(-half_length_m, half_length_m + 1.0, step_m)
+    y = np.where(np.arange(x.size) % 2 == 0, -amplitude_m, amplitude_m)
+    return shapely.LineString(np.column_stack([x, y]))
+
+
+def test_default_start_clears_a_staircase_shore():
+    # From the default start 200 m seaward of y = 0 every ray within 90 deg of the normal (180)
+    # heads seaward or along y = -200, so a staircase reaching 30 m seaward cannot meet it
+    # (plane geometry): all 181 cast rays are open. From the former 20 m start the staircase's
+    # seaward corners block the grazing rays of most transects (all but those on a corner).
+    shore = staircase()
+    x = np.linspace(-5000.0, 5000.0, 41)
+    xy = shapely.get_coordinates(shore)
+    t = transects_at(x, np.interp(x, xy[:, 0], xy[:, 1]), 180.0)  # shore points on the line
+    e = compute_exposure(t, [shore])
+    np.testing.assert_array_equal(e.start_m, DEFAULT_START_M)
+    assert e.start_offset_m == DEFAULT_START_M == 200.0
+    np.testing.assert_array_equal(e.exposure_deg, 181.0)
+    old = compute_exposure(t, [shore], **GEOMETRIC)
+    assert (old.exposure_deg < 181.0).mean() > 0.5
+
+
+@pytest.mark.parametrize(("offshore_m", "start_m"), [(150.0, 75.0), (30.0, 20.0), (500.0, 200.0)])
+def test_breakwater_met_along_the_normal_clips_the_start(offshore_m, start_m):
+    # A detached breakwater 600 m long, offshore_m off a straight shore, across the normal. The
+    # normal meets it offshore_m out, so the start is put at half that, never closer than 20 m
+    # and never beyond 200 m (the rule). From S = (0, -start) the breakwater's ends lie
+    # atan(300 / (offshore - start)) either side of 180 deg (plane geometry): the rays within
+    # are blocked, the ones outside open, the fetch toward 180 is offshore - start. Without the
+    # clip a 200 m start would lie behind a breakwater 150 m or 30 m out and see no shelter.
+    breakwater = shapely.LineString([(-300.0, -offshore_m), (300.0, -offshore_m)])
+    e = compute_exposure(transects_at(0.0, 0.0, 180.0), [STRAIGHT], land=[breakwater])
+    assert e.start_m[0] == pytest.approx(start_m, abs=1e-6)
+    edge = np.degrees(np.arctan2(300.0, offshore_m - start_m))
+    delta = np.abs(angdiff(e.directions_deg, 180.0))
+    assert not e.open[0, delta < edge - 0.01].any()
+    assert e.open[0, (delta > edge + 0.01) & (delta <= 90.0)].all()
+    assert e.fetch_toward(180.0)[0] == pytest.approx(offshore_m - start_m, abs=0.01)
+
+
+def test_jetty_beside_the_transect_pulls_the_start_in():
+    # A shore-normal jetty (a line) from the shore at x = 0 to 300 m seaward. It crosses the
+    # line through the 200 m start parallel to the shore at a lateral distance x from a
+    # transect at x, so the start is put at x / 2 (not closer than 20 m) for x < 200 m, and
+    # stays at 200 m beyond (the rule). A ray toward 200 deg (20 deg off the normal) from
+    # (x, -start) meets the jetty if start + x / tan(20 deg) < 300 (plane geometry): the lee
+    # that a 200 m start would lose (x < 36 m only) is kept to the geometric edge from the
+    # pulled-in start. Diffraction test off: this checks the start alone.
+    jetty = shapely.LineString([(0.0, 0.0), (0.0, -300.0)])
+    x = np.array([30.0, 50.0, 89.0, 150.0, 250.0])
+    e = compute_exposure(transects_at(x, 0.0, 180.0), [STRAIGHT], land=[jetty], wavelength_m=None)
+    expected_start = np.where(x < 200.0, np.maximum(x / 2.0, 20.0), 200.0)
+    np.testing.assert_allclose(e.start_m, expected_start, atol=1e-6)
+    lee = expected_start + x / np.tan(np.radians(20.0)) < 300.0
+    np.testing.assert_array_equal(lee, [True, True, True, False, False])
+    np.testing.assert_array_equal(e.is_open(200.0), ~lee)
+
+
+def test_notch_in_a_straight_beach_does_not_shelter():
+    # An 80 m wide, 80 m deep notch in a straight beach (sea south), a transect at its back
+    # (0, 80) facing the sea. The normal leaves the notch through its mouth, so the start is
+    # 200 m out, 120 m seaward of the beach line: from there the notch is out of reach of every
+    # ray within 90 deg (plane geometry) and all 181 are open. From the former 20 m start, with
+    # every blocker shadowing, the notch's walls block the grazing rays.
+    x = np.r_[-15000.0, -40.0, -40.0, 40.0, 40.0, 15000.0]
+    y = np.r_[0.0, 0.0, 80.0, 80.0, 0.0, 0.0]
+    shore = shapely.LineString(np.column_stack([x, y]))
+    t = transects_at(0.0, 80.0, 180.0)
+    assert compute_exposure(t, [shore]).exposure_deg[0] == 181.0
+    assert compute_exposure(t, [shore], **GEOMETRIC).exposure_deg[0] < 181.0
+
+
+# ---------------------------------------------------------------------------------------------
+# Narrow blockers: the first Fresnel zone
+# ---------------------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize(
+    ("radius_m", "wavelength_m"), [(100.0, 100.0), (150.0, 100.0), (400.0, 100.0),
+                                   (1000.0, 100.0), (400.0, 400.0)]
+)  # fmt: skip
+def test_island_shadows_only_if_wider_than_the_first_fresnel_zone(radius_m, wavelength_m):
+    # A round island centred 3 km off a straight shore, seen from S = (0, -200). Plane geometry
+    # (ray_disc) gives its blocked rays and their hit distances; the rule (Fresnel-zone
+    # argument, Penney and Price 1952, from memory): the run shadows iff its width across the
+    # rays, n step d (d its mean hit distance), is at least sqrt(L d). The cases are chosen
+    # with a margin of more than 25 % either way, far from the threshold.
+    island = circle(0.0, -3000.0, radius_m)
+    e = compute_exposure(
+        transects_at(0.0, 0.0, 180.0), [STRAIGHT], land=[island], wavelength_m=wavelength_m
+    )
+    hit, q = ray_disc(0.0, -DEFAULT_START_M, e.directions_deg, 0.0, -3000.0, radius_m)
+    run = np.isfinite(hit)
+    d = hit[run].mean()
+    width = run.sum() * np.radians(1.0) * d
+    fresnel = np.sqrt(wavelength_m * d)
+    assert abs(width / fresnel - 1.0) > 0.25
+    np.testing.assert_array_equal(e.open[0, run], width < fresnel)
+    cast = np.abs(angdiff(e.directions_deg, 180.0)) <= 90.0
+    assert e.open[0, cast & ~run].all()
+    assert e.fetch_m[0, run] == pytest.approx(hit[run], abs=0.05)  # fetch stays geometric
+
+
+def test_small_rock_does_not_switch_off_an_island_shadow():
+    # A rock of 30 m radius 600 m out in front of an island of 1 km radius 5 km out. Alone the
+    # rock is far narrower than its Fresnel zone and shadows nothing; in front of the island the
+    # two make one run of blocked rays, judged by its mean hit distance, so every ray of the
+    # island's shadow (plane geometry) stays blocked, those behind the rock included.
+    rock = circle(0.0, -600.0, 30.0, n=360)
+    t = transects_at(0.0, 0.0, 180.0)
+    assert compute_exposure(t, [STRAIGHT], land=[rock]).exposure_deg[0] == 181.0
+    e = compute_exposure(t, [STRAIGHT], land=[rock, ISLAND])
+    hit, _ = ray_disc(0.0, -DEFAULT_START_M, e.directions_deg, 0.0, -ISLAND_D_M, ISLAND_R_M)
+    shadow = np.isfinite(hit)
+    assert shadow.sum() > 20 and not e.open[0, shadow].any()
+    assert e.fetch_toward(180.0)[0] == pytest.approx(600.0 - 30.0 - DEFAULT_START_M, abs=0.01)
+
+
+def test_short_pier_does_not_shelter_but_a_long_jetty_does():
+    # A pier 10 m wide reaching 150 m out (a polygon) stays inside the 200 m start line: the
+    # rays start beyond it and it shelters nothing. A jetty reaching 1 km pulls the starts of
+    # the transects beside it in (half the lateral distance, the rule) and its lee is sheltered
+    # to the geometric edge: from (x, -x/2), a ray toward 200 deg meets it if
+    # x/2 + x / tan(20 deg) < 1000 (plane geometry), and the run of rays it blocks is wide.
+    x = np.array([30.0, 60.0, 100.0, 180.0])
+    t = transects_at(x, 0.0, 180.0)
+    pier = shapely.box(-5.0, -150.0, 5.0, 0.0)
+    e = compute_exposure(t, [STRAIGHT], land=[pier])
+    np.testing.assert_array_equal(e.exposure_deg, 181.0)
+    jetty = shapely.box(-5.0, -1000.0, 5.0, 0.0)
+    e = compute_exposure(t, [STRAIGHT], land=[jetty])
+    start = np.maximum((x - 5.0) / 2.0, 20.0)  # its face is 5 m nearer than its axis
+    np.testing.assert_allclose(e.start_m, start, atol=1e-6)
+    lee = start + (x - 5.0) / np.tan(np.radians(20.0)) < 1000.0
+    assert lee.all()
+    assert not e.is_open(200.0).any()

@@ -807,3 +807,179 @@ def test_short_pier_does_not_shelter_but_a_long_jetty_does():
     lee = start + (x - 5.0) / np.tan(np.radians(20.0)) < 1000.0
     assert lee.all()
     assert not e.is_open(200.0).any()
+
+
+# ---------------------------------------------------------------------------------------------
+# Grazing rays along the coast itself
+# ---------------------------------------------------------------------------------------------
+
+
+def concave_arc(radius_m, half_length_m=40000.0, n=8001):
+    """A shore along a circle centred radius_m south of the origin, the sea inside (south)."""
+    phi = np.linspace(-half_length_m / radius_m, half_length_m / radius_m, n)
+    return shapely.LineString(np.c_[radius_m * np.sin(phi), -radius_m + radius_m * np.cos(phi)])
+
+
+@pytest.mark.parametrize("radius_m", [30000.0, 50000.0, 100000.0])
+def test_gently_curved_coast_does_not_shelter_itself(radius_m):
+    # A long concave shore, a circular arc of radius R, the sea inside; transects laid out on
+    # it by shoreline.coast. Grazing rays meet the arc again kilometres away: from a start s
+    # inside the arc the ray at alpha from the (radial) normal meets it after
+    # c cos(alpha) + sqrt(R^2 - c^2 sin^2(alpha)), c = R - s (chord geometry), which is under
+    # 20 km for the rays beyond about 70 deg (R = 30 km). With the grazing rule every ray within
+    # 90 deg is open; without it (rules off) exactly the rays plane geometry says are blocked.
+    line = concave_arc(radius_m)
+    coast = CoastLines([line], np.array([False]), np.array([0]), PLANE, PLANE)
+    t = lay_out_transects(coast, spacing_m=2000.0, orientation_window_m=1000.0)
+    middle = np.flatnonzero(np.abs(t.x_m) < 12000.0)
+    e = compute_exposure(t, [line])
+    rel = angdiff(e.directions_deg[None, :], t.normal_az_deg[middle, None])
+    cast = np.abs(rel) <= 90.0
+    np.testing.assert_array_equal(e.open[middle], cast)
+    assert e.open_coast[middle].all()
+    # Rules off: the arc blocks where the chord is short (plane geometry; the normals from
+    # shoreline.coast are radial to 1e-6 deg on a circle, the 8000-gon lies within 0.2 m of
+    # it: rays within 50 m of 20 km are not judged).
+    bare = compute_exposure(t, [line], wavelength_m=None, grazing_radius_m=None)
+    c = radius_m - DEFAULT_START_M
+    a = np.radians(rel)
+    chord = c * np.cos(a) + np.sqrt(radius_m**2 - (c * np.sin(a)) ** 2)
+    judged = cast & (np.abs(chord - 20000.0) > 50.0)
+    np.testing.assert_array_equal(bare.open[middle][judged], (chord >= 20000.0)[judged])
+    assert ((~bare.open[middle] & cast).sum(axis=1) >= 2).all()  # the rule is not idle
+
+
+def test_headland_still_shelters_its_bay_with_the_default_rules():
+    # The spit of test_headland_shelters_its_lee, with every rule at its default: from
+    # S = (-1000, -200) the spit is met by the rays from 90 deg to its tip at
+    # atan2(1000, -2800) = 160.3 deg (plane geometry), and they stay blocked: the spit is close
+    # (the circle through the shore point tangent there and through a hit has a radius under
+    # 5 km), its face turned 90 deg from the shore, and kilometres wide across the rays.
+    spit = shapely.LineString([(0.0, 0.0), (0.0, -3000.0)])
+    e = compute_exposure(transects_at(-1000.0, 0.0, 180.0), [STRAIGHT, spit])
+    tip = np.degrees(np.arctan2(1000.0, -(3000.0 - DEFAULT_START_M)))
+    cast = (e.directions_deg >= 90.0) & (e.directions_deg <= 270.0)
+    assert not e.open[0, cast & (e.directions_deg < tip - 0.01)].any()
+    assert e.open[0, cast & (e.directions_deg > tip + 0.01)].all()
+    assert e.open_coast[0]
+
+
+def test_far_headland_still_shelters_grazing_rays(monkeypatch):
+    # A straight coast and a spit 2 km long at x = 12 km. From S = (0, -200) it is met by the
+    # rays from 90 deg to its tip at atan2(12000, -1800) = 98.5 deg (plane geometry). They
+    # leave within 8.5 deg of the shore and the circle test would take the spit for a gentle
+    # bend (a radius near 60 km), but the land met faces 90 deg away from the shore: it is a
+    # headland's flank, not the same coast further along, so they stay blocked (a run 9 deg
+    # wide at 12 km, far wider than its Fresnel zone). Without the facing condition they open.
+    import shoreline.exposure as exposure_module
+
+    spit = shapely.LineString([(12000.0, 0.0), (12000.0, -2000.0)])
+    t = transects_at(0.0, 0.0, 180.0)
+    e = compute_exposure(t, [STRAIGHT, spit])
+    tip = np.degrees(np.arctan2(12000.0, -1800.0))
+    behind = (e.directions_deg >= 90.0) & (e.directions_deg < tip - 0.01)
+    assert behind.sum() == 9 and not e.open[0, behind].any()
+    monkeypatch.setattr(exposure_module, "GRAZING_TURN_DEG", 180.0)
+    assert compute_exposure(t, [STRAIGHT, spit]).open[0, behind].all()
+
+
+# ---------------------------------------------------------------------------------------------
+# Open coast or not
+# ---------------------------------------------------------------------------------------------
+
+
+def test_view_factor_of_a_straight_coast_and_an_island_lee():
+    # Straight open coast: the view factor is 1 (the cosine-weighted half-plane, definition;
+    # the ray sum is the trapezoidal rule of the integral of cos, off by pi h^2 / 12 < 1e-4).
+    # Behind a round island of radius R centred D' from the start straight offshore the
+    # shadow spans beta = asin(R / D') either side of the normal and the view factor is
+    # 1 - sin(beta) = 1 - R / D' [derived], to half a step at each shadow edge (< 0.01). A
+    # 1 km island 3 km off keeps 0.64: the lee of an island is open coast. A 2.7 km island
+    # 3.1 km off (its rim 400 m out) leaves views beyond 68 deg only: not open coast.
+    e = compute_exposure(transects_at(0.0, 0.0, 180.0), [STRAIGHT])
+    assert e.view_factor[0] == pytest.approx(1.0, abs=1e-4)
+    assert e.open_coast[0] and e.open_coast_reason[0] == "open"
+    for radius_m, centre_m, is_open_coast in ((1000.0, 3000.0, True), (2700.0, 3100.0, False)):
+        island = circle(0.0, -centre_m, radius_m)
+        e = compute_exposure(transects_at(0.0, 0.0, 180.0), [STRAIGHT], land=[island])
+        assert e.start_m[0] == DEFAULT_START_M
+        expected = 1.0 - radius_m / (centre_m - DEFAULT_START_M)
+        assert e.view_factor[0] == pytest.approx(expected, abs=0.01)
+        assert e.open_coast[0] == is_open_coast
+    assert e.open_coast_reason[0] == "oblique"
+
+
+def estuary_coast():
+    """A straight coast (sea south) with an estuary 300 m wide reaching 5 km inland at x = 0."""
+    x = [-15000.0, -150.0, -150.0, 150.0, 150.0, 15000.0]
+    y = [0.0, 0.0, 5000.0, 5000.0, 0.0, 0.0]
+    line = shapely.LineString(np.column_stack([x, y]))
+    return CoastLines([line], np.array([False]), np.array([0]), PLANE, PLANE)
+
+
+def test_estuary_banks_are_not_open_coast():
+    # Transects laid out by shoreline.coast. On the banks more than 1 km inside the mouth the
+    # sea is seen only down the channel, at more than 80 deg from the normal (its 300 m width
+    # seen from 1 km or more), so the view factor stays under 1 - sin(80 deg) = 0.015 per side
+    # [derived]; at the head, 5 km in, the mouth fills a window of 2 atan(150 / 4800) = 3.6 deg
+    # about the normal (view factor 0.03). None is open coast; the open shore 2 km or more
+    # from the mouth is.
+    coast = estuary_coast()
+    t = lay_out_transects(coast, spacing_m=100.0, orientation_window_m=500.0)
+    e = compute_exposure(t, coast.parts)
+    inside = t.y_m > 1000.0
+    beach = (t.y_m < 1.0) & (np.abs(t.x_m) > 2000.0)
+    assert inside.sum() > 50 and beach.sum() > 50
+    banks = inside & (t.y_m < 4900.0)
+    assert not e.open_coast[inside].any()
+    assert (e.view_factor[banks] < 0.03).all() and (e.view_factor[inside] < 0.05).all()
+    assert set(e.open_coast_reason[banks]) <= {"oblique", "enclosed"}
+    assert e.open_coast[beach].all()
+
+
+def test_harbour_basin_behind_moles_is_not_open_coast():
+    # A basin 1.2 km wide and 800 m deep closed by two moles (lines) with a 160 m entrance
+    # mid-way. Even the transect facing the entrance sees the sea only through it: from
+    # S = (0, -200) a window of 2 atan(80 / 600) = 15.2 deg about the normal, a view factor of
+    # sin(7.6 deg) = 0.13 (plane geometry, the definition): not open coast ("narrow"). The
+    # shore outside the harbour is open coast.
+    moles = [
+        shapely.LineString([(-600.0, 0.0), (-600.0, -800.0), (-80.0, -800.0)]),
+        shapely.LineString([(600.0, 0.0), (600.0, -800.0), (80.0, -800.0)]),
+    ]
+    x = np.r_[np.linspace(-500.0, 500.0, 11), -5000.0, 5000.0]
+    e = compute_exposure(transects_at(x, 0.0, 180.0), [STRAIGHT], land=moles)
+    assert not e.open_coast[:11].any() and e.open_coast[11:].all()
+    assert e.view_factor[5] == pytest.approx(np.sin(np.arctan2(80.0, 600.0)), abs=0.01)
+    assert e.open_coast_reason[5] == "narrow"
+
+
+def test_lagoon_shore_behind_a_barrier_is_not_open_coast():
+    # A barrier island 500 m wide, 2 km off the mainland, cut by an inlet 300 m wide at x = 0.
+    # From the lagoon shore the sea shows only through the inlet: facing it from S = (0, -200)
+    # a window set by the inlet's seaward end, 2 atan(150 / 2300) = 7.5 deg, a view factor of
+    # sin(3.7 deg) = 0.065 (plane geometry, the definition); elsewhere less or nothing. The
+    # barrier's ocean shore is open coast.
+    barrier = [shapely.box(-20000.0, -2500.0, -150.0, -2000.0),
+               shapely.box(150.0, -2500.0, 20000.0, -2000.0)]  # fmt: skip
+    lagoon = transects_at(np.linspace(-5000.0, 5000.0, 21), 0.0, 180.0)
+    e = compute_exposure(lagoon, [STRAIGHT], land=barrier)
+    assert not e.open_coast.any()
+    assert e.view_factor[10] == pytest.approx(np.sin(np.arctan2(150.0, 2300.0)), abs=0.01)
+    ocean = transects_at(np.linspace(-5000.0, 5000.0, 5) + 2500.0, -2500.0, 180.0)
+    assert compute_exposure(ocean, [STRAIGHT], land=barrier).open_coast.all()
+
+
+def test_open_coast_reasons(breakwater_exposure):
+    # A round lake sees no open sea ("enclosed"); a ray start inside a pier is "on land"; an
+    # undefined normal is "no normal". Definitions.
+    ring = circle(0.0, 0.0, 2000.0, ring=True)
+    lake = compute_exposure(transects_at(0.0, 2000.0, 180.0), [ring])
+    assert not lake.open_coast[0] and lake.open_coast_reason[0] == "enclosed"
+    assert lake.view_factor[0] == 0.0
+    pier = shapely.box(-30.0, -300.0, 30.0, 0.0)
+    e = compute_exposure(transects_at(0.0, 0.0, 180.0), [STRAIGHT], land=[pier])
+    assert e.open_coast_reason[0] == "on land" and not e.open_coast[0]
+    e = breakwater_exposure
+    assert e.open_coast_reason[2] == "no normal" and np.isnan(e.view_factor[2])
+    assert not e.open_coast[2]

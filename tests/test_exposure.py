@@ -16,7 +16,9 @@ polygon approximation of each circle (stated where used).
 from __future__ import annotations
 
 import math
+from pathlib import Path
 
+import geopandas as gpd
 import numpy as np
 import pyproj
 import pytest
@@ -27,7 +29,7 @@ from pyproj.crs import ProjectedCRS
 from pyproj.crs.coordinate_operation import TransverseMercatorConversion
 from scipy import integrate
 
-from shoreline.coast import CoastLines, Transects, lay_out_transects
+from shoreline.coast import CoastLines, Transects, lay_out_transects, read_coast
 from shoreline.errors import CoastError
 from shoreline.exposure import (
     DEFAULT_START_M,
@@ -983,3 +985,38 @@ def test_open_coast_reasons(breakwater_exposure):
     e = breakwater_exposure
     assert e.open_coast_reason[2] == "no normal" and np.isnan(e.view_factor[2])
     assert not e.open_coast[2]
+
+
+# ---------------------------------------------------------------------------------------------
+# A real coast
+# ---------------------------------------------------------------------------------------------
+
+
+def test_real_coast_lagoon_is_not_open_coast_and_beaches_are_open():
+    # An extract of GSHHG (Wessel and Smith 1996; tests/data/aveiro/README.md): the straight
+    # sandy coast either side of the inlet of the Ria de Aveiro and the lagoon behind it, at
+    # the database's 100-200 m resolution. Facts of the place, not of the code: the lagoon
+    # shore is reached from the sea only through the inlet (common practice: it is a
+    # sheltered lagoon); the beaches more than about 1.5 km from the inlet moles are a long,
+    # nearly straight open coast facing west-north-west (common practice). So every lagoon
+    # transect is not open coast, and every beach transect is open coast with every direction
+    # within 85 deg of its normal open: neither the digitised line's staircases nor the
+    # coast's own gentle bends shelter it.
+    path = Path(__file__).parent / "data" / "aveiro" / "aveiro-inlet.gpkg"
+    coast = read_coast(path, layer="coastline", sea="right")
+    land = list(gpd.read_file(path, layer="land").to_crs(coast.working_crs).geometry)
+    t = lay_out_transects(coast, spacing_m=100.0, orientation_window_m=3000.0)
+    e = compute_exposure(t, list(coast.parts), land=land)
+    lon, lat = pyproj.Transformer.from_crs(coast.working_crs, 4326, always_xy=True).transform(
+        t.x_m, t.y_m
+    )
+    # the lagoon behind the inlet, and the beaches away from the inlet, by position
+    lagoon = ((lon > -8.742) & (lat > 40.640) & (lat < 40.668)) | (
+        (lon > -8.735) & (lat >= 40.668) & (lat < 40.680)
+    )
+    beach = ((lat < 40.630) | (lat > 40.665)) & ~lagoon
+    assert lagoon.sum() > 100 and beach.sum() > 150
+    assert not e.open_coast[lagoon].any()
+    assert e.open_coast[beach].all()
+    near_normal = np.abs(angdiff(e.directions_deg[None, :], t.normal_az_deg[beach, None])) <= 85
+    assert (e.open[beach] | ~near_normal).all()

@@ -355,7 +355,7 @@ def compute_exposure(
         Angle between rays [deg]; must divide 360.
     start_offset_m : float, default 200.0
         The rays start this far seaward of the shore point along the seaward normal, on the
-        ground [m], or closer where land is met along the normal (below). Must be > 0.
+        ground [m], or closer where land lies ahead or beside (below). Must be > 0.
         200 m lies beyond the breaker line of everyday waves on sandy beaches, where the waves
         that move sand are still whole (see Notes).
     spreading_s : float or None, default 25.0
@@ -394,8 +394,11 @@ def compute_exposure(
     170 m [derived]: 200 m clears the surf zone of everyday waves, so the shore's own wiggles
     and notches of up to that size block nothing. If land is met along the normal between
     :data:`MIN_START_M` (20 m) and o (a detached breakwater, a jetty head, an island, the far
-    bank of a river), S is put at :data:`START_FRACTION` (half) of the distance to it, never
-    closer than 20 m: a breakwater close inshore still shelters. :attr:`Exposure.start_m`.
+    bank of a river), S is put at :data:`START_FRACTION` (half) of the distance to it; if land
+    crosses the line through S parallel to the shore within o to either side (a jetty, a mole
+    or a headland's flank beside the transect reaching farther out than S), at half the
+    lateral distance to it; never closer than 20 m. So a breakwater close inshore still
+    shelters, and so does a shore-connected structure its lee. :attr:`Exposure.start_m`.
 
     **Directions and lengths.** Ray j has true azimuth ``theta_j = j step`` and grid azimuth
     ``theta_j + beta``, beta the grid azimuth of true north at S (minus the meridian

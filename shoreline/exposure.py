@@ -110,6 +110,9 @@ _CHUNK = 400
 #: A chunk whose transects meet more candidate segments than this is split in two [pairs].
 _MAX_PAIRS = 1_500_000
 
+#: Rows convolved together for the open share.
+_FFT_ROWS = 4096
+
 #: Grid step used to estimate the gradient of the scale factor k at a ray's start [m].
 _K_STEP_M = 1000.0
 
@@ -962,8 +965,11 @@ def _open_share(open_, rel, valid, step, s) -> np.ndarray:
     i, j = np.nonzero(beyond)
     inner = (j - np.sign(rel[i, j]).astype(np.int64)) % m
     mask[i, j] = frac[i, j] * open_[i, inner]
-    kernel = np.fft.rfft(spreading_weights(s, step))
-    share = np.fft.irfft(np.fft.rfft(mask, axis=1) * kernel[None, :], n=m, axis=1)
+    kernel = np.fft.rfft(spreading_weights(s, step))[None, :]
+    share = np.zeros((n, m))
+    for r0 in range(0, n, _FFT_ROWS):  # bounds the complex temporaries
+        rows = slice(r0, r0 + _FFT_ROWS)
+        share[rows] = np.fft.irfft(np.fft.rfft(mask[rows], axis=1) * kernel, n=m, axis=1)
     return np.where(valid[:, None], np.clip(share, 0.0, 1.0), 0.0)
 
 

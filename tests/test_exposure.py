@@ -529,9 +529,12 @@ def test_chunking_does_not_change_the_answer(monkeypatch):
     whole = compute_exposure(t, [STRAIGHT, spit], land=[ISLAND])
     monkeypatch.setattr(exposure_module, "_CHUNK", 5)
     monkeypatch.setattr(exposure_module, "_MAX_PAIRS", 40)
+    monkeypatch.setattr(exposure_module, "_FFT_ROWS", 3)
     split = compute_exposure(t, [STRAIGHT, spit], land=[ISLAND])
     np.testing.assert_array_equal(split.open, whole.open)
     np.testing.assert_array_equal(split.fetch_m, whole.fetch_m)
+    np.testing.assert_allclose(split.share, whole.share, rtol=0, atol=1e-15)
+    np.testing.assert_array_equal(split.start_m, whole.start_m)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -659,10 +662,23 @@ def test_open_share_lookup(breakwater_exposure):
     np.testing.assert_array_equal(e.open_share(180.0, transect_index=[1, 0]), e.share[[1, 0], 180])
 
 
+@pytest.mark.parametrize("name", ["spreading_s", "wavelength_m", "grazing_radius_m"])
 @pytest.mark.parametrize("value", [-1.0, np.nan])
-def test_bad_spreading_parameter(value):
-    with pytest.raises(ValueError, match="spreading_s"):
-        compute_exposure(transects_at(0.0, 0.0, 180.0), [STRAIGHT], spreading_s=value)
+def test_bad_rule_settings(name, value):
+    with pytest.raises(ValueError, match=name):
+        compute_exposure(transects_at(0.0, 0.0, 180.0), [STRAIGHT], **{name: value})
+
+
+def test_rules_switched_off():
+    # None, inf (and a wavelength of 0) switch a rule off; the Exposure records None.
+    t = transects_at(0.0, 0.0, 180.0)
+    for off in (None, np.inf):
+        e = compute_exposure(t, [STRAIGHT], wavelength_m=off, grazing_radius_m=off)
+        assert e.wavelength_m is None and e.grazing_radius_m is None
+    rock = circle(0.0, -600.0, 30.0, n=360)  # narrower than its Fresnel zone (see above)
+    assert compute_exposure(t, [STRAIGHT], land=[rock]).exposure_deg[0] == 181.0
+    for off in (None, 0.0):
+        assert compute_exposure(t, [STRAIGHT], land=[rock], wavelength_m=off).exposure_deg[0] < 181
 
 
 # ---------------------------------------------------------------------------------------------

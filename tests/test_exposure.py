@@ -807,6 +807,31 @@ def test_small_rock_does_not_switch_off_an_island_shadow():
     assert e.fetch_toward(180.0)[0] == pytest.approx(600.0 - 30.0 - DEFAULT_START_M, abs=0.01)
 
 
+def test_small_bump_far_along_the_shore_does_not_shelter_but_a_headland_does():
+    # A straight shore with a bump 300 m wide reaching 280 m out, 3 km along it. From
+    # S = (0, -200) its seaward corner (2850, -280) lies at 90 + atan(80 / 2850) = 91.6 deg
+    # (plane geometry): the rays 90 and 91 meet it, a run 2 deg wide at about 2.85 km, 100 m
+    # across against a Fresnel zone of sqrt(100 x 2850) = 534 m: it does not shelter. With the
+    # diffraction test off, ray 91 is blocked (ray 90, running along y = -200, meets the bump
+    # where a circle tangent to the shore at the transect would pass, 20.4 km in radius, and a
+    # bump that small is part of the shore's line at the 1 km scale: the grazing rule opens it).
+    # A headland 3 km wide reaching 1.5 km out at the same place blocks the rays from 90 deg to
+    # its corner at atan2(1500, -1300) = 130.9 deg (plane geometry), kilometres across.
+    bump = shapely.LineString([(2850.0, 0.0), (2850.0, -280.0), (3150.0, -280.0), (3150.0, 0.0)])
+    t = transects_at(0.0, 0.0, 180.0)
+    assert compute_exposure(t, [STRAIGHT, bump]).exposure_deg[0] == 181.0
+    bare = compute_exposure(t, [STRAIGHT, bump], wavelength_m=None)
+    assert not bare.is_open(91.0)[0] and bare.is_open(92.0)[0]
+    headland = shapely.LineString(
+        [(1500.0, 0.0), (1500.0, -1500.0), (4500.0, -1500.0), (4500.0, 0.0)]
+    )
+    e = compute_exposure(t, [STRAIGHT, headland])
+    corner = np.degrees(np.arctan2(1500.0, -1300.0))
+    behind = (e.directions_deg >= 90.0) & (e.directions_deg < corner - 0.01)
+    assert behind.sum() == 41 and not e.open[0, behind].any()
+    assert e.open[0, (e.directions_deg > corner + 0.01) & (e.directions_deg <= 270.0)].all()
+
+
 def test_short_pier_does_not_shelter_but_a_long_jetty_does():
     # A pier 10 m wide reaching 150 m out (a polygon) stays inside the 200 m start line: the
     # rays start beyond it and it shelters nothing. A jetty reaching 1 km pulls the starts of

@@ -74,8 +74,8 @@ DEFAULT_START_M = 200.0
 #: The ray start never comes closer to the shore point than this [m] (the former fixed start).
 MIN_START_M = 20.0
 
-#: Where land is met along the normal before ``start_offset_m``, the start is placed at this
-#: fraction of the distance to it.
+#: Where land lies ahead along the normal before ``start_offset_m``, or beside the start, the
+#: start is placed at this fraction of the distance to it.
 START_FRACTION = 0.5
 
 #: Default spreading parameter s of cos^2s(dtheta/2) (see compute_exposure) [-].
@@ -84,11 +84,12 @@ DEFAULT_SPREADING_S = 25.0
 #: Default wavelength for the diffraction test of narrow blockers [m].
 DEFAULT_WAVELENGTH_M = 100.0
 
-#: A grazing ray's first hit lying on a circle through the shore point, tangent to the shore
-#: there, of at least this radius is the coast's own curvature, not a shelter [m].
+#: Default of ``grazing_radius_m``: a grazing ray's first hit lying on a circle through the
+#: shore point, tangent to the shore there, of at least this radius is the coast's own gentle
+#: curvature, not a shelter [m] ...
 GRAZING_RADIUS_M = 20000.0
 
-#: ... only for rays leaving within this angle of the shore's tangent [deg] ...
+#: ... for rays that leave within this angle of the shore's tangent [deg] ...
 GRAZING_DEPARTURE_DEG = 30.0
 
 #: ... and meet land that faces within this angle of the transect's normal [deg].

@@ -9,6 +9,7 @@ import shapely
 from test_run import local_to_lonlat, straight, write_coast, write_study
 
 from shoreline import wind
+from shoreline.exposure import DEFAULT_START_M
 from shoreline.run import run_study
 from shoreline.study import read_study
 
@@ -82,7 +83,7 @@ def test_headland_shelters_its_bay(tmp_path):
 def test_round_lake_fetch_and_wind_waves(tmp_path):
     # A round lake of radius 2 km (a water polygon: the water is inside). Under a steady wind
     # from the west (270 deg) the east shore, downwind, has a fetch across the whole lake:
-    # the chord along the diameter, 2R less the 20 m start offset (plane geometry), and the
+    # the chord along the diameter, 2R less the ray start offset (plane geometry), and the
     # waves of the CEM II-2 growth relations for that fetch; the west shore, upwind, has none.
     r = 2000.0
     lake = gpd.GeoDataFrame(geometry=[lonlat_polygon(*circle(0.0, 0.0, r, 720))], crs=4326)
@@ -114,13 +115,14 @@ duration_h = 12.0
     t = result.transects
     # the ring's normals point into the lake: the east shore's normal points west (270 deg);
     # take the transect whose normal is nearest 270 and the chord from it, 2R cos(psi), psi
-    # its angle off the diameter, less the start offset (plane geometry)
+    # its angle off the diameter, less the start offset (plane geometry): the default ray
+    # start of shoreline.exposure, 200 m, which land along the normal (4 km away) never clips
     off = ((t.normal_az_deg - 270.0 + 180.0) % 360.0) - 180.0
     east = int(np.argmin(np.abs(off)))
     west = int(np.argmin(np.abs(((t.normal_az_deg - 90.0 + 180.0) % 360.0) - 180.0)))
     assert abs(off[east]) < 1.5  # transects are 2.9 deg apart on the ring
     cols = result.scenarios[1].columns
-    chord = 2 * r * np.cos(np.radians(off[east])) - 20.0
+    chord = 2 * r * np.cos(np.radians(off[east])) - DEFAULT_START_M
     assert cols["fetch_km"][east] * 1000.0 == pytest.approx(chord, abs=5.0)
     hm0, tp, _ = wind.wind_waves(15.0, cols["fetch_km"][east] * 1000.0, 12 * 3600.0)
     assert cols["hs0_m"][east] == pytest.approx(float(hm0), rel=1e-9)

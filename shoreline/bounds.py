@@ -91,6 +91,21 @@ BOUNDS: dict[str, Bound] = {
         "our choice",
     ),
     "max_gap_h": Bound(0.0, 8766.0, "h", "one year: a longer step is no record", "our choice"),
+    "ray_start_m": Bound(
+        1.0,
+        5000.0,
+        "m",
+        "beyond a few kilometres the ray start is no longer near the transect's own shore",
+        "our choice",
+    ),
+    "spreading_s": Bound(
+        1.0,
+        1.0e6,
+        "-",
+        "s = 1 is a sea spread over the half-plane; by 1e6 a direction is open or shut (the "
+        "geometric-shadow limit)",
+        "our choice",
+    ),
     "spacing_m": Bound(
         1.0,
         100000.0,

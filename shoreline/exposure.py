@@ -971,7 +971,15 @@ def _open_share(open_, rel, valid, step, s) -> np.ndarray:
     for r0 in range(0, n, _FFT_ROWS):  # bounds the complex temporaries
         rows = slice(r0, r0 + _FFT_ROWS)
         share[rows] = np.fft.irfft(np.fft.rfft(mask[rows], axis=1) * kernel, n=m, axis=1)
-    return np.where(valid[:, None], np.clip(share, 0.0, 1.0), 0.0)
+    # the FFT's round-off (about 1e-16) must not open a shut direction or shut an open one
+    share = np.where(
+        share < _SHARE_ROUNDOFF, 0.0, np.where(share > 1.0 - _SHARE_ROUNDOFF, 1.0, share)
+    )
+    return np.where(valid[:, None], share, 0.0)
+
+
+#: Open shares within this of 0 or 1 are exactly 0 or 1 (FFT round-off).
+_SHARE_ROUNDOFF = 1e-12
 
 
 def _open_coast(open_, rel, valid, on_land, step) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

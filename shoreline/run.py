@@ -206,8 +206,11 @@ def transport_reductions(
                     target[rows_p] = values
         reach = np.isfinite(hb)
         reach &= np.abs(angle) < 90.0
-        if exposure is not None:  # waves from a direction blocked by land are sheltered
-            reach &= exposure.is_open(rows(climate.dir_deg, sl))
+        # the share of the waves that reaches the shore: 1 on open coast, less where land
+        # blocks part of their directional spread (shoreline.exposure)
+        share = reach.astype(float)
+        if exposure is not None:
+            share *= exposure.open_share(rows(climate.dir_deg, sl))
         beach_slope = slope if slope is not None else profile.breaker_zone_slope(db, d50_mm)
         out: dict[str, np.ndarray] = {}
         for name in formulas:
@@ -226,15 +229,17 @@ def transport_reductions(
                 porosity=porosity,
             )
             q[~reach] = 0.0
+            q *= share
             out[f"q_{name}"] = q @ w
             if name == primary:
                 out["pos"] = np.maximum(q, 0.0) @ w
                 np.abs(q, out=q)
                 out["gross"] = q @ w
-        out["open_s"] = reach.astype(float) @ w
-        out["broken_s"] = (reach & broken).astype(float) @ w
+        out["open_s"] = share @ w
+        out["broken_s"] = (broken * share) @ w
         for key, values in (("hb", hb), ("db", db), ("ab", ab)):
             values[~reach] = 0.0
+            values *= share
             out[key] = values @ w
         return out
 
@@ -276,6 +281,22 @@ def budget_scale_m(transects: Transects) -> float:
 
     window = transects.orientation_window_m
     return float(window) * SIGMA_PER_WINDOW if np.isfinite(window) else 0.0
+
+
+def shadow_wavelength_m(climate: WaveClimate) -> float:
+    """Deep-water wavelength g T^2 / 2 pi of the record's duration-weighted median peak period.
+
+    The length scale of the narrow-blocker rule of :func:`shoreline.exposure.compute_exposure`
+    (diffraction fills the shadow of land narrower than the first Fresnel zone).
+    """
+    tp = np.atleast_2d(climate.tp_s).mean(axis=0)
+    ok = np.isfinite(tp) & (tp > 0)
+    if not ok.any():
+        return 100.0
+    order = np.argsort(tp[ok])
+    cum = np.cumsum(climate.duration_s[ok][order])
+    median = float(tp[ok][order][np.searchsorted(cum, 0.5 * cum[-1])])
+    return float(waves.G_M_S2 * median**2 / (2.0 * np.pi))
 
 
 def closure_depth_from_record(climate: WaveClimate) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -903,11 +924,15 @@ def run_study(
     t0 = time.perf_counter()
     extra_land = load_land(study, transects)
     land = extra_land + (list(structures.lines) if structures else [])
+    c = study["coast"]
     exposure = compute_exposure(
         transects,
         list(coast.parts),
         land=land or None,
-        max_distance_m=study["coast"]["exposure_distance_m"],
+        max_distance_m=c["exposure_distance_m"],
+        start_offset_m=c["ray_start_m"],
+        spreading_s=study["waves"]["spreading_s"],
+        wavelength_m=shadow_wavelength_m(climate),
     )
     timings["exposure"] = time.perf_counter() - t0
     shore = shore_type_of(study, coast, transects, exposure)

@@ -124,6 +124,12 @@ SCHEMA: dict[str, dict[str, Key]] = {
             check=_bounded("exposure_distance_m"),
             doc="how far from the shore land is looked for",
         ),
+        "ray_start_m": Key(
+            "float",
+            200.0,
+            check=_positive,
+            doc="how far seaward of the shore the sheltering rays start (beyond the surf zone)",
+        ),
         "spacing_m": Key(
             "float", 100.0, check=_bounded("spacing_m"), doc="transect spacing on the ground"
         ),
@@ -164,6 +170,12 @@ SCHEMA: dict[str, dict[str, Key]] = {
             6.0,
             check=_bounded("max_gap_h"),
             doc="longest step a record may stand for, hours",
+        ),
+        "spreading_s": Key(
+            "float",
+            25.0,
+            check=_positive,
+            doc="directional spreading cos^2s: 10 wind sea, 25 swell, 75 long-travelled swell",
         ),
         "chunk_steps": Key(
             "int", 0, check=_non_negative, doc="time steps evaluated at once; 0 = automatic"

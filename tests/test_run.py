@@ -37,16 +37,25 @@ def write_coast(folder: Path, x_m, y_m, crs: str = "EPSG:4326", name="coast.geoj
     return path
 
 
-def write_study(folder: Path, coast: str, waves_toml: str, extra: str = "") -> Path:
+#: The geometric-shadow limit of the sheltering: rays from 20 m off the shore and a directional
+#: spread so narrow that a direction is open or shut (the first release's all-or-nothing shadow,
+#: the narrow-spread limit of the cos^2s spreading; docs/methods.md).
+GEOMETRIC = ("ray_start_m = 20.0\n", "spreading_s = 1e6\n")
+
+
+def write_study(
+    folder: Path, coast: str, waves_toml: str, extra: str = "", geometric: bool = False
+) -> Path:
+    start, spread = GEOMETRIC if geometric else ("", "")
     text = f"""
 [coast]
 file = "{coast}"
 sea = "right"
 spacing_m = 100.0
 orientation_window_m = 500.0
-
+{start}
 [waves]
-{waves_toml}
+{spread}{waves_toml}
 
 [model]
 formulas = ["cerc", "kamphuis"]

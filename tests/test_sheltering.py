@@ -34,7 +34,7 @@ def test_island_shelters_the_shore_behind_it(tmp_path, crs):
     island = gpd.GeoDataFrame(geometry=[lonlat_polygon(*circle(0.0, -3000.0, 500.0))], crs=4326)
     island.to_crs(crs).to_file(tmp_path / "islands.gpkg")
     text = "hs_m = 1.0\ntp_s = 8.0\ndir_deg = 185.0"
-    study = write_study(tmp_path, "coast.geojson", text)
+    study = write_study(tmp_path, "coast.geojson", text, geometric=True)
     text = study.read_text().replace('sea = "right"', 'sea = "right"\nland = "islands.gpkg"')
     study.write_text(text)
     cols = run_study(read_study(study)).scenarios[0].columns
@@ -50,6 +50,32 @@ def test_island_shelters_the_shore_behind_it(tmp_path, crs):
     assert cols["exposure_deg"][behind].max() < cols["exposure_deg"][far].min()
 
 
+def test_island_shadow_with_a_spread_sea_is_partial(tmp_path):
+    # The same island with the default spread (cos^2s((theta - mean) / 2), s = 25; Mitsuyasu et
+    # al. 1975, from memory) and rays from 200 m out: a sea arrives from a range of
+    # directions, some of which pass the island, so the lee is partly sheltered: by the share
+    # of the spread within the island's half-angle asin(500 / 2800) seen from the ray start
+    # (plane geometry), integrated with scipy.integrate.quad; far along the shore it is open.
+    from scipy.integrate import quad
+
+    write_coast(tmp_path, *straight(12_000.0, 20.0))
+    island = gpd.GeoDataFrame(geometry=[lonlat_polygon(*circle(0.0, -3000.0, 500.0))], crs=4326)
+    island.to_file(tmp_path / "islands.gpkg")
+    study = write_study(tmp_path, "coast.geojson", "hs_m = 1.0\ntp_s = 8.0\ndir_deg = 180.0")
+    text = study.read_text().replace('sea = "right"', 'sea = "right"\nland = "islands.gpkg"')
+    study.write_text(text)
+    cols = run_study(read_study(study)).scenarios[0].columns
+    x = cols["chainage_m"] - 6000.0
+    behind = np.abs(x) < 30.0
+    far = np.abs(x) > 4000.0
+    spread = lambda t: np.cos(t / 2.0) ** 50  # noqa: E731
+    half = np.arcsin(500.0 / 2800.0)
+    expected = quad(spread, -half, half)[0] / quad(spread, -np.pi / 2, np.pi / 2)[0]
+    # rays every 1 deg stand for the directions within half a degree of them
+    np.testing.assert_allclose(cols["sheltered_fraction"][behind], expected, atol=0.03)
+    assert np.all(cols["sheltered_fraction"][far] < 0.02)
+
+
 def test_headland_shelters_its_bay(tmp_path):
     # A straight coast with a 1.5 km headland sticking out to sea (south) at x = 0; waves from
     # 225 deg (from the south-west) cannot reach the shore just east of the headland: a ray
@@ -63,7 +89,9 @@ def test_headland_shelters_its_bay(tmp_path):
     ]
     y = np.r_[np.zeros(300), -np.linspace(0, 1500, 75), -np.linspace(1500, 0, 75), np.zeros(300)]
     write_coast(tmp_path, x, y)
-    study = write_study(tmp_path, "coast.geojson", "hs_m = 1.0\ntp_s = 8.0\ndir_deg = 225.0")
+    study = write_study(
+        tmp_path, "coast.geojson", "hs_m = 1.0\ntp_s = 8.0\ndir_deg = 225.0", geometric=True
+    )
     study.write_text(
         study.read_text().replace("orientation_window_m = 500.0", "orientation_window_m = 100.0")
     )

@@ -31,10 +31,10 @@ def write_jetty(
     frame.to_crs(crs).to_file(folder / name)
 
 
-def jetty_study(tmp_path, bypass=0.0, file="jetty.gpkg"):
+def jetty_study(tmp_path, bypass=0.0, file="jetty.gpkg", geometric=False):
     write_coast(tmp_path, *straight())
     extra = f'\n[structures]\nfile = "{file}"\nbypass = {bypass}\n'
-    return read_study(write_study(tmp_path, "coast.geojson", STEADY, extra))
+    return read_study(write_study(tmp_path, "coast.geojson", STEADY, extra, geometric))
 
 
 def test_jetty_traps_updrift_and_starves_downdrift(tmp_path):
@@ -74,10 +74,11 @@ def test_jetty_traps_updrift_and_starves_downdrift(tmp_path):
 
 def test_long_jetty_shelters_its_lee(tmp_path):
     # A jetty reaching 300 m seaward blocks waves from 200 deg (20 deg west of the normal) for
-    # the shore just east of it: a ray from a start point 20 m seaward at distance x east meets
-    # the jetty if 20 + x / tan(20 deg) < 300, i.e. x < 102 m (plane geometry).
+    # the shore just east of it (geometric-shadow limit, test_run.GEOMETRIC): a ray from a
+    # start point 20 m seaward at distance x east meets the jetty if 20 + x / tan(20 deg) <
+    # 300, i.e. x < 102 m (plane geometry).
     write_jetty(tmp_path, reach_m=300.0)
-    cols = run_study(jetty_study(tmp_path, 0.0)).scenarios[0].columns
+    cols = run_study(jetty_study(tmp_path, 0.0, geometric=True)).scenarios[0].columns
     x = cols["chainage_m"] - 5000.0
     assert np.all(cols["sheltered_fraction"][(x > 0) & (x < 90)] == 1.0)
     assert np.all(cols["sheltered_fraction"][(x > 120) | (x < 0)] == 0.0)
@@ -156,7 +157,7 @@ def test_a_full_jetty_traps_what_the_updrift_side_carries(tmp_path, x_m):
     # fillet gains all of it), not an average with the sheltered lee. The transects sit at
     # chainage 2, 102, ... m, so the jetty at x = 0 is between two and at x = 2 m on one.
     write_jetty(tmp_path, x_m=x_m, reach_m=300.0)
-    result = run_study(jetty_study(tmp_path, 0.0))
+    result = run_study(jetty_study(tmp_path, 0.0, geometric=True))
     cols = result.scenarios[0].columns
     q = cols["q_cerc_m3_per_yr"]
     x = cols["chainage_m"] - 5000.0

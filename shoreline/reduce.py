@@ -103,6 +103,9 @@ __all__ = [
 
 #: Node-steps (or transect-steps on the direct path) evaluated per chunk of the record.
 CHUNK_ELEMENTS = 1 << 17
+#: A wave point whose transects x steps are no more than this is solved directly: tables would
+#: save under a second there, and the direct path is exact (see tabulated_reductions, Notes).
+DIRECT_TRANSECT_STEPS = 1 << 21
 #: Share of node-steps from the sea above which a chunk is solved on its whole grid.
 _FULL_GRID_SHARE = 0.9
 #: Transects read off the tables per matrix product (bounds the gathered sector weights).
@@ -789,10 +792,16 @@ def tabulated_reductions(
 
     Notes
     -----
-    A wave point is tabulated when it serves more transects than its tables have nodes;
-    otherwise (few transects, or as many wave points as transects, like waves grown over each
-    transect's own fetch) its transects are evaluated directly, vectorised over transects and
-    steps. Points are processed one after another, so memory holds one point's tables.
+    A wave point is tabulated when it serves more transects than its tables have nodes and
+    its transects x steps exceed :data:`DIRECT_TRANSECT_STEPS`. Otherwise (few transects; as
+    many wave points as transects, like waves grown over each transect's own fetch; a storm or
+    a short record) its transects are evaluated directly at their own normals, vectorised over
+    transects and steps: exact, and no slower than tables there. Short records go direct also
+    for accuracy: Kamphuis' ``|sin 2 alpha_b|**0.6`` has an infinite slope at normal incidence,
+    which linear interpolation between nodes smooths; over a long record of spread directions
+    the error averages out below the node bound, but a single storm step met by a transect
+    facing it within half a node would show it (docs/methods.md). Points are processed one
+    after another, so memory holds one point's tables.
     """
     physics = Physics(
         tuple(formulas),
@@ -824,12 +833,13 @@ def tabulated_reductions(
     m = 1 if weight is None else weight.shape[1]
     n_steps = climate.n_steps
     finite = np.isfinite(normal)
-    # which wave points get tables: those serving more transects than their tables have nodes
+    # which wave points get tables: those serving more transects than their tables have nodes,
+    # with a record long enough for the tables to matter
     tabled: list[tuple[int, np.ndarray, int]] = []
     direct = []
     for p in np.unique(point_of[finite]):  # a loop over wave points, never over transects
         rows = np.flatnonzero(finite & (point_of == p))
-        if angle_step_deg > 0:
+        if angle_step_deg > 0 and rows.size * n_steps > DIRECT_TRANSECT_STEPS:
             _, n_nodes = _node_grid(normal[rows], float(angle_step_deg), 0)
             if rows.size > n_nodes:
                 tabled.append((int(p), rows, n_nodes))

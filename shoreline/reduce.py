@@ -83,14 +83,14 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-# run.py will import this module; importing run as a module (names looked up at call time)
-# keeps that cycle harmless.
 from shoreline import profile, transport, waves
-from shoreline import run as _run
 from shoreline.climate import WaveClimate
 
 if TYPE_CHECKING:
     from shoreline.run import Reductions
+
+# run.py holds Reductions and wrap_deg and will import this module: they are imported inside
+# the functions that use them, so that neither module needs the other while it loads.
 
 __all__ = [
     "Physics",
@@ -381,7 +381,8 @@ class Tables:
         normal = np.asarray(normal_az_deg, dtype=float).reshape(-1) - float(dir_shift_deg)
         n = normal.size
         sgn = np.broadcast_to(np.asarray(sign, dtype=float), (n,))
-        pos = np.mod(normal - self.node0_deg, 360.0) / self.step_deg
+        tol = 1e-6 * self.step_deg  # a normal an ulp below the first node is on it
+        pos = np.maximum(np.mod(normal - self.node0_deg + tol, 360.0) - tol, 0.0) / self.step_deg
         finite = np.isfinite(pos)
         last = self.n_nodes - 1
         if np.any(pos[finite] > last + 1e-6):
@@ -474,6 +475,12 @@ class _Ticker:
         if now > self.reported:
             self.callback(now - self.reported)
             self.reported = now
+
+    def finish(self) -> None:
+        """Report whatever is left (e.g. steps with no direction, which need no work)."""
+        if self.callback is not None and self.reported < self.steps:
+            self.callback(self.steps - self.reported)
+            self.reported = self.steps
 
 
 def tabulate(
@@ -581,12 +588,13 @@ def tabulate(
     sums = {q: np.zeros((n_nodes, n_keys)) for q in names}
     size = int(chunk_steps) if chunk_steps else max(1, CHUNK_ELEMENTS // n_nodes)
     tick = _Ticker(progress, float(steps_idx.size), duration.size)
+    from shoreline.run import wrap_deg
 
     def chunk(lo: int) -> tuple[int, dict[str, np.ndarray] | None]:
         sl = slice(lo, lo + size)
         keys = key[sl]
         k_first, k_count = int(keys[0]), int(keys[-1] - keys[0]) + 1
-        angle = _run.wrap_deg(dr_s[sl][None, :] - nodes[:, None])
+        angle = wrap_deg(dr_s[sl][None, :] - nodes[:, None])
         inside = np.abs(angle) < 90.0
         n_inside = int(np.count_nonzero(inside))
         if n_inside == 0:
@@ -630,7 +638,7 @@ def tabulate(
                 for q in names:
                     sums[q][:, k_first : k_first + k_count] += part[q]
             tick(min(size, steps_idx.size - lo))
-    tick(0.0)  # a record with no direction at all still reports its steps
+    tick.finish()
     if labels is not None:
         sums = {
             q: v.reshape(n_nodes, n_blocks, used.size).transpose(1, 0, 2) for q, v in sums.items()
@@ -664,6 +672,8 @@ def _direct_sums(
     pt = point_of[rows] if two else np.zeros(n_rows, dtype=np.intp)
     depth_rows = depth[pt] if depth.ndim == 1 and two else float(depth.reshape(-1)[0])
     m = 1 if weight is None else weight.shape[1]
+    from shoreline.run import wrap_deg
+
     steps = int(chunk_steps) if chunk_steps else max(1, CHUNK_ELEMENTS // n_rows)
     per = max(1, CHUNK_ELEMENTS // steps)
 
@@ -673,7 +683,7 @@ def _direct_sums(
         sel = rows[local]
         sl = slice(s0, s0 + steps)
         d = dr[:, sl][pt[local]]
-        angle = _run.wrap_deg(d - normal[sel][:, None])
+        angle = wrap_deg(d - normal[sel][:, None])
         angle *= sign[sel][:, None]
         w = np.broadcast_to(duration[sl], angle.shape)
         if weight is not None:
@@ -715,7 +725,9 @@ def reductions_from_sums(
             for k in ("hb_m_s", "db_m_s", "alpha_b_deg_s")
         }
     net = sums[f"q_{primary}_m3"]
-    return _run.Reductions(
+    from shoreline.run import Reductions
+
+    return Reductions(
         hours=total_s / 3600.0,
         q_net_m3_per_yr={name: sums[f"q_{name}_m3"] * per_year for name in formulas},
         q_gross_m3_per_yr=sums["q_gross_m3"] * per_year,
@@ -875,5 +887,5 @@ def tabulated_reductions(
         )
     for q in sums:
         sums[q][direct_rows] = part[q]
-    tick(work)
+    tick.finish()
     return reductions_from_sums(sums, float(climate.duration_s.sum()), physics.formulas, primary)

@@ -481,6 +481,40 @@ def test_results_do_not_depend_on_the_chunks(angle_step_deg):
             np.testing.assert_allclose(other[k], v, rtol=1e-12, atol=1e-12, err_msg=k)
 
 
+def test_normals_across_north_and_other_node_steps(tabled):
+    # A north-facing coast: normals on both sides of 0/360 share one run of nodes across north.
+    climate = replace(record(8766, seed=13, mean_dir=10.0), depth_m=20.0)
+    normals = np.linspace(-25.0, 25.0, 400) % 360.0
+    sign = np.where(np.arange(400) % 2 == 0, 1.0, -1.0)
+    ref, gross = direct_path(normals, sign, climate, **PHYSICS)
+    tab = reduce.tabulated_reductions(normals, sign, climate, **PHYSICS)
+    assert_within_node_bound(tab, ref, gross)
+    tables = reduce.tabulate(climate, normals, reduce.Physics(**PHYSICS))
+    assert tables.n_nodes == 103  # -25.5 .. 25.5 by 0.5 (a node of margin aside), not 700
+    # node steps that are not binary fractions: nodes are at whole multiples of the step, and
+    # normals on them (up to rounding) read those nodes
+    for step in (0.1, 0.3):
+        on_nodes = np.arange(math.ceil(170.0 / step), math.floor(181.0 / step)) * step
+        t = reduce.tabulate(record(50), on_nodes, reduce.Physics(**PHYSICS), angle_step_deg=step)
+        got = t.interpolate(on_nodes)["open_s"]
+        at = np.rint((on_nodes - t.node0_deg) / step).astype(int)
+        np.testing.assert_allclose(got, t.sums["open_s"][at, :].sum(axis=1), rtol=1e-9)
+
+
+def test_progress_counts_every_step_once():
+    climate = record(300, seed=1)
+    climate.dir_deg[::7] = np.nan  # steps with no direction need no work but are counted
+    ticks = []
+    reduce.tabulate(
+        climate, np.array([170.0, 190.0]), reduce.Physics(**PHYSICS), progress=ticks.append
+    )
+    assert sum(ticks) == 300
+    ticks.clear()
+    normals = np.linspace(170.0, 190.0, 2000)  # 2000 x 300 steps: above the direct budget
+    reduce.tabulated_reductions(normals, np.ones(2000), climate, progress=ticks.append, **PHYSICS)
+    assert sum(ticks) == 300 and len(ticks) > 1
+
+
 def test_direction_sector_matches_the_exposure_lookup():
     transects, exposure = island_coast(21)
     d = np.random.default_rng(0).uniform(0.0, 360.0, (21, 500))

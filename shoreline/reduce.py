@@ -212,14 +212,16 @@ def _evaluate(
     tp: np.ndarray,
     angle: np.ndarray,
     depth: float | np.ndarray,
-    weight_s: np.ndarray | None,
+    weight_s: np.ndarray,
     ph: Physics,
 ) -> dict[str, np.ndarray]:
     """Per-element contributions (weight x quantity) of arrays of elements that broadcast.
 
-    ``weight_s`` is each element's duration x sector weight [s]; None stands for 1 (the caller
-    applies the durations afterwards). Elements the breaking solution cannot carry (waves from
-    land, no waves) contribute zero.
+    ``weight_s`` is each element's duration x sector weight [s]. Elements the breaking
+    solution cannot carry (waves from land, no waves) contribute zero. Returns the summed
+    quantities except those derived after summing (:func:`_derive`); where every element
+    reaches the shore and ``weight_s`` has one row, ``open_s`` and ``broken_s`` (which do not
+    depend on the angle then) keep that one row.
     """
     hb, db, ab, broken = waves.breaking(
         hs,
@@ -232,19 +234,16 @@ def _evaluate(
     )
     reach = np.isfinite(hb)
     every = bool(reach.all())  # the usual case: skip the masking passes
-    if weight_s is None:
-        w = np.ones(reach.shape) if every else reach.astype(float)
-    else:
-        w = np.broadcast_to(weight_s, reach.shape) if every else np.where(reach, weight_s, 0.0)
+    w = weight_s if every else np.where(reach, weight_s, 0.0)
     if not every:
         miss = ~reach
         for values in (hb, db, ab):
             values[miss] = 0.0
+    out: dict[str, np.ndarray] = {}
     with np.errstate(invalid="ignore", divide="ignore"):
         beach_slope = (
             ph.slope if ph.slope is not None else profile.breaker_zone_slope(db, ph.d50_mm)
         )
-        out: dict[str, np.ndarray] = {}
         for name in ph.formulas:
             q = transport.longshore_transport(
                 name,
@@ -262,16 +261,48 @@ def _evaluate(
             )
             if not every:
                 q = np.where(reach, q, 0.0)
+            q *= w
+            out[f"q_{name}_m3"] = q
             if name == ph.primary:
-                out["q_pos_m3"] = np.maximum(q, 0.0) * w
-                out["q_gross_m3"] = np.abs(q) * w
-            out[f"q_{name}_m3"] = q * w
-    out["open_s"] = np.array(w)  # a copy: w may be a broadcast view
-    out["broken_s"] = np.where(broken, w, 0.0)
-    out["hb_m_s"] = hb * w
-    out["db_m_s"] = db * w
-    out["alpha_b_deg_s"] = ab * w
+                out["q_gross_m3"] = np.abs(q)  # w >= 0
+    if every and np.ndim(w) == 2 and np.shape(w)[0] == 1 < reach.shape[0]:
+        out["open_s"] = w  # every node of a step: one row serves all
+        out["broken_s"] = np.where(
+            broken[:1], w, 0.0
+        )  # broken at input: the step's, not the angle's
+    else:
+        w = np.broadcast_to(w, reach.shape)
+        out["open_s"] = np.array(w)
+        out["broken_s"] = np.where(broken, w, 0.0)
+    hb *= w
+    ab *= w
+    out["hb_m_s"] = hb
+    out["alpha_b_deg_s"] = ab
     return out
+
+
+def _raw(names: Sequence[str], ph: Physics) -> tuple[str, ...]:
+    """The quantities to sum from elements to give ``names`` (see :func:`_derive`)."""
+    need = set(names)
+    if "q_pos_m3" in need:
+        need |= {"q_gross_m3", f"q_{ph.primary}_m3"}
+    if "db_m_s" in need:
+        need.add("hb_m_s")
+    return tuple(q for q in ph.quantities if q in need and q not in ("q_pos_m3", "db_m_s"))
+
+
+def _derive(sums: dict[str, np.ndarray], names: Sequence[str], ph: Physics) -> dict:
+    """Add the sums that follow from others, keep ``names``.
+
+    max(q, 0) = (|q| + q) / 2, so the positive part is (gross + net) / 2; and at breaking
+    Hb = gamma db (the breaking criterion, also for waves broken at the input depth), so the
+    depth sum is the height sum over gamma.
+    """
+    if "q_pos_m3" in names:
+        sums["q_pos_m3"] = 0.5 * (sums["q_gross_m3"] + sums[f"q_{ph.primary}_m3"])
+    if "db_m_s" in names:
+        sums["db_m_s"] = sums["hb_m_s"] / ph.breaker_index
+    return {q: sums[q] for q in names}
 
 
 @dataclass(frozen=True)
@@ -585,7 +616,8 @@ def tabulate(
     steps_idx, key = keep[order], key[order]
     hs_s, tp_s, dr_s, w_s = hs[steps_idx], tp[steps_idx], dr[steps_idx], duration[steps_idx]
     n_keys = n_blocks * used.size
-    sums = {q: np.zeros((n_nodes, n_keys)) for q in names}
+    raw = _raw(names, physics)
+    sums = {q: np.zeros((n_nodes, n_keys)) for q in raw}
     size = int(chunk_steps) if chunk_steps else max(1, CHUNK_ELEMENTS // n_nodes)
     tick = _Ticker(progress, float(steps_idx.size), duration.size)
     from shoreline.run import wrap_deg
@@ -604,13 +636,12 @@ def tabulate(
             # then sum each key's run of steps (the steps are sorted by key)
             w = w_s[sl][None, :]
             values = _evaluate(hs_s[sl][None, :], tp_s[sl][None, :], angle, depth, w, physics)
-            runs = np.flatnonzero(np.diff(keys)) + 1
-            starts = np.r_[0, runs]
-            cols = keys[starts] - k_first
+            first = np.r_[0, np.flatnonzero(np.diff(keys)) + 1]  # where each key's run starts
+            cols = keys[first] - k_first
             out = {}
-            for q in names:
+            for q in raw:
                 part = np.zeros((n_nodes, k_count))
-                part[:, cols] = np.add.reduceat(values[q], starts, axis=1)
+                part[:, cols] = np.add.reduceat(values[q], first, axis=1)
                 out[q] = part
             return k_first, out
         node_i, step_i = np.nonzero(inside)  # drop the waves from land before solving
@@ -627,7 +658,7 @@ def tabulate(
             q: np.bincount(group, weights=values[q], minlength=n_nodes * k_count).reshape(
                 n_nodes, k_count
             )
-            for q in names
+            for q in raw
         }
 
     starts = range(0, steps_idx.size, size)
@@ -635,10 +666,11 @@ def tabulate(
         for lo, (k_first, part) in zip(starts, pool.map(chunk, starts), strict=True):
             if part is not None:
                 k_count = next(iter(part.values())).shape[1]
-                for q in names:
+                for q in raw:
                     sums[q][:, k_first : k_first + k_count] += part[q]
             tick(min(size, steps_idx.size - lo))
     tick.finish()
+    sums = _derive(sums, names, physics)
     if labels is not None:
         sums = {
             q: v.reshape(n_nodes, n_blocks, used.size).transpose(1, 0, 2) for q, v in sums.items()
@@ -660,10 +692,11 @@ def _direct_sums(
 ) -> dict[str, np.ndarray]:
     """Sums of the given transects evaluated directly at their own normals (no tables)."""
     names = physics.quantities
+    raw = _raw(names, physics)
     n_rows = rows.size
-    out = {q: np.zeros(n_rows) for q in names}
+    out = {q: np.zeros(n_rows) for q in raw}
     if n_rows == 0:
-        return out
+        return _derive(out, names, physics)
     two = climate.hs_m.ndim == 2
     hs, tp, dr = (np.atleast_2d(v) for v in (climate.hs_m, climate.tp_s, climate.dir_deg))
     depth = np.asarray(climate.depth_m, dtype=float)
@@ -699,14 +732,14 @@ def _direct_sums(
             w[r_i, s_i],
             physics,
         )
-        return r0, {q: np.bincount(r_i, weights=values[q], minlength=local.size) for q in names}
+        return r0, {q: np.bincount(r_i, weights=values[q], minlength=local.size) for q in raw}
 
     tasks = [(r0, s0) for s0 in range(0, n_steps, steps) for r0 in range(0, n_rows, per)]
     for (r0, s0), (_, part) in zip(tasks, pool.map(chunk, tasks), strict=True):
-        for q in names:
+        for q in raw:
             out[q][r0 : r0 + part[q].size] += part[q]
         tick(min(per, n_rows - r0) * min(steps, n_steps - s0))
-    return out
+    return _derive(out, names, physics)
 
 
 def reductions_from_sums(

@@ -102,7 +102,7 @@ __all__ = [
 ]
 
 #: Node-steps (or transect-steps on the direct path) evaluated per chunk of the record.
-CHUNK_ELEMENTS = 1 << 16
+CHUNK_ELEMENTS = 1 << 15
 #: A wave point whose transects x steps are no more than this is solved directly: tables would
 #: save under a second there, and the direct path is exact (see tabulated_reductions, Notes).
 DIRECT_TRANSECT_STEPS = 1 << 21

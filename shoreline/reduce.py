@@ -33,10 +33,15 @@ Conventions
   ``max(-q, 0) = max(q, 0) - q``). One table serves both signs.
 - Sectors: with ``m`` sectors, sector ``j`` is centred on ``j * 360 / m`` degrees and a step
   falls in the sector of its nearest ray, the rule of :meth:`shoreline.exposure.Exposure.is_open`
-  (``exposure.open.astype(float)`` is the weight table equivalent to today's boolean test).
+  (``exposure.open.astype(float)`` is the weight table equivalent to the run's boolean test).
   Only the sectors that hold any step are stored.
 - Waves from land (``|angle| >= 90`` degrees) move no sand and do not reach the shore; nor do
   steps the breaking solution cannot carry (NaN input, no waves).
+- Two sums are formed after summing the others: the positive part is (gross + net) / 2, as
+  ``max(q, 0) = (|q| + q) / 2``, and the depth sum is the height sum over the breaker index,
+  as Hb = gamma db at breaking.
+- :func:`tabulated_reductions` solves a wave point's transects directly, without tables, where
+  tables would not pay or the record is short (a storm): see its Notes.
 
 Quantities (keys of :attr:`Tables.sums`; sums over time, so each carries ``x s``):
 
@@ -110,7 +115,7 @@ DIRECT_TRANSECT_STEPS = 1 << 21
 _FULL_GRID_SHARE = 0.9
 #: Transects read off the tables per matrix product (bounds the gathered sector weights).
 _ROWS_PER_PRODUCT = 4096
-#: Quantities whose sum changes sign with the side of the sea (see the module notes).
+#: Quantities whose sum is the same whichever side of the chainage the sea is on (module notes).
 _EVEN = ("q_gross_m3", "open_s", "broken_s", "hb_m_s", "db_m_s")
 #: The sums kept besides the net transport of every formula.
 _OTHER_QUANTITIES = (

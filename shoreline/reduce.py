@@ -825,7 +825,7 @@ def tabulated_reductions(
     sector_weight : ndarray of shape (n, m), optional
         Share in [0, 1] of the waves from each of ``m`` direction sectors (sector ``j``
         centred on ``j * 360 / m``) that reaches each transect; None for all ones.
-        ``exposure.open.astype(float)`` reproduces the boolean sheltering of the run.
+        ``exposure.share`` reproduces the boolean sheltering of the run.
     angle_step_deg : float
         Node spacing [deg]; 0 evaluates every transect directly at its own normal.
     chunk_steps, workers, progress : int, int, callable, optional

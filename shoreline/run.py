@@ -493,26 +493,36 @@ def reduce_transport(
     coefficients: dict[str, float],
     **options: Any,
 ) -> Reductions:
-    """The time reduction of the transport at the given normals (see transport_reductions)."""
+    """The time reduction of the transport at the given normals.
+
+    With ``[model] angle_step_deg`` > 0 by the tables of :mod:`shoreline.reduce` (sum over
+    time first, then interpolate per transect); with 0 by :func:`transport_reductions` solving
+    every transect and step directly (the reference).
+    """
+    from shoreline.reduce import tabulated_reductions
+
     m, s = study["model"], study["sediment"]
-    return transport_reductions(
-        normal_az_deg,
-        sign,
-        climate,
-        formulas=m["formulas"],
-        primary=m["primary"],
-        breaker_index=m["breaker_index"],
-        breaking_method=m["breaking"],
-        cerc_k=coefficients["cerc"],
-        kamphuis_coefficient=coefficients["kamphuis"],
-        d50_mm=s["d50_mm"],
-        slope=s["slope"],
-        water_density_kg_m3=m["water_density_kg_m3"],
-        sediment_density_kg_m3=s["density_kg_m3"],
-        porosity=s["porosity"],
-        angle_step_deg=m["angle_step_deg"],
-        **options,
-    )
+    physics = {
+        "formulas": m["formulas"],
+        "primary": m["primary"],
+        "breaker_index": m["breaker_index"],
+        "breaking_method": m["breaking"],
+        "cerc_k": coefficients["cerc"],
+        "kamphuis_coefficient": coefficients["kamphuis"],
+        "d50_mm": s["d50_mm"],
+        "slope": s["slope"],
+        "water_density_kg_m3": m["water_density_kg_m3"],
+        "sediment_density_kg_m3": s["density_kg_m3"],
+        "porosity": s["porosity"],
+        "angle_step_deg": m["angle_step_deg"],
+    }
+    if m["angle_step_deg"] > 0:
+        exposure = options.pop("exposure", None)
+        weight = None if exposure is None else exposure.share
+        return tabulated_reductions(
+            normal_az_deg, sign, climate, **physics, sector_weight=weight, **options
+        )
+    return transport_reductions(normal_az_deg, sign, climate, **physics, **options)
 
 
 def exposure_rows(exposure: Exposure | None, rows: np.ndarray) -> Exposure | None:

@@ -303,12 +303,14 @@ def test_open_coast_against_the_direct_path(formulas, primary, slope, depth, tab
     assert_within_node_bound(tab, ref, gross)
 
 
-def island_coast(n: int = 121):
+def island_coast(n: int = 121, spreading_s: float | None = 25.0):
     """A straight coast (sea to the south) of varied normals with an island 3 km offshore."""
     x = np.linspace(-6000.0, 6000.0, n)
     normals = 180.0 + 20.0 * np.sin(x / 1500.0)
     transects = transects_at(x, 0.0, normals)
-    exposure = compute_exposure(transects, [STRAIGHT], land=[circle(0.0, -3000.0, 500.0)])
+    exposure = compute_exposure(
+        transects, [STRAIGHT], land=[circle(0.0, -3000.0, 500.0)], spreading_s=spreading_s
+    )
     return transects, exposure
 
 
@@ -320,7 +322,7 @@ def test_sheltered_coast_against_the_direct_path(tabled):
     normals = transects.normal_az_deg
     ref, gross = direct_path(normals, sign, climate, exposure=exposure, **PHYSICS)
     tab = reduce.tabulated_reductions(
-        normals, sign, climate, sector_weight=exposure.open.astype(float), **PHYSICS
+        normals, sign, climate, sector_weight=exposure.share, **PHYSICS
     )
     assert tabled == [None]
     assert_within_node_bound(tab, ref, gross)
@@ -350,7 +352,7 @@ def test_several_wave_points_against_the_direct_path(tabled):
     args = (normals, sign, climate)
     ref, gross = direct_path(*args, point_index=point_index, exposure=exposure, **PHYSICS)
     tab = reduce.tabulated_reductions(
-        *args, point_index=point_index, sector_weight=exposure.open.astype(float), **PHYSICS
+        *args, point_index=point_index, sector_weight=exposure.share, **PHYSICS
     )
     assert tabled == [0, 2]
     assert_within_node_bound(tab, ref, gross)
@@ -360,10 +362,10 @@ def test_several_wave_points_against_the_direct_path(tabled):
 
 def test_single_storm_step_on_tables_against_the_direct_path(tabled):
     climate = replace(steady(3.2, 10.0, 185.0), duration_s=np.array([48 * 3600.0]))
-    transects, exposure = island_coast()
+    transects, exposure = island_coast(spreading_s=None)  # the geometric-shadow limit
     normals = transects.normal_az_deg
     sign = np.where(np.arange(121) < 60, 1.0, -1.0)
-    weight = exposure.open.astype(float)
+    weight = exposure.share
     ref, gross = direct_path(normals, sign, climate, exposure=exposure, **PHYSICS)
     tab = reduce.tabulated_reductions(normals, sign, climate, sector_weight=weight, **PHYSICS)
     assert tabled == [None]
@@ -381,14 +383,14 @@ def test_single_storm_step_on_tables_against_the_direct_path(tabled):
 
 def test_a_storm_is_solved_directly_by_default():
     climate = replace(steady(3.2, 10.0, 185.0), duration_s=np.array([48 * 3600.0]))
-    transects, exposure = island_coast()
+    transects, exposure = island_coast(spreading_s=None)  # the geometric-shadow limit
     normals = transects.normal_az_deg
     sign = np.where(np.arange(121) < 60, 1.0, -1.0)
     ref = run.transport_reductions(
         normals, sign, climate, angle_step_deg=0, exposure=exposure, **PHYSICS
     )
     tab = reduce.tabulated_reductions(
-        normals, sign, climate, sector_weight=exposure.open.astype(float), **PHYSICS
+        normals, sign, climate, sector_weight=exposure.share, **PHYSICS
     )
     for k, v in fields(ref).items():
         np.testing.assert_allclose(fields(tab)[k], v, rtol=1e-12, atol=1e-9, err_msg=k)
@@ -425,6 +427,9 @@ def test_one_wave_point_per_transect_takes_the_direct_path(tabled):
             ray = np.rint(dir_deg / 5.0).astype(int) % 72
             return weight[np.arange(n)[:, None], ray] > 0
 
+        def open_share(self, dir_deg):
+            return self.is_open(dir_deg).astype(float)
+
     ref = run.transport_reductions(
         normals, sign, climate, point_index=pidx, exposure=OpenTable(), angle_step_deg=0, **PHYSICS
     )
@@ -460,7 +465,7 @@ def test_results_do_not_depend_on_the_chunks(angle_step_deg):
     transects, exposure = island_coast(200)
     normals = transects.normal_az_deg
     sign = np.where(np.arange(200) % 2 == 0, 1.0, -1.0)
-    weight = exposure.open.astype(float)
+    weight = exposure.share
     results = []
     for chunk in (1, 7, 100, None):
         ticks = []

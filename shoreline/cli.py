@@ -107,17 +107,26 @@ def _default_out(study_path: Path, out: Path | None) -> Path:
     return out if out is not None else study_path.resolve().parent / "out"
 
 
-def _figures_and_report(folder: Path) -> list[Path]:
-    """Write every scenario's figures, then the report, into an output folder; return them."""
+def _figures_and_report(folder: Path, stage=None) -> list[Path]:
+    """Write every scenario's figures, then the report, into an output folder; return them.
+
+    ``stage(name, total)``, if given, returns the progress callback of the figures stage.
+    """
     from shoreline.figures import write_figures
     from shoreline.report import write_report
 
     reference = folder / "reference"
     written: list[Path] = []
-    for scenario in sorted(p for p in folder.iterdir() if (p / "summary.json").exists()):
+    scenarios = sorted(p for p in folder.iterdir() if (p / "summary.json").exists())
+    tick = stage("figures", len(scenarios) + 1, " scenarios") if stage else None
+    for scenario in scenarios:
         reference_dir = None if scenario == reference else reference
         written.extend(write_figures(scenario, reference_dir=reference_dir))
+        if tick:
+            tick(1)
     written.append(write_report(folder))
+    if tick:
+        tick(1)
     return written
 
 
@@ -184,30 +193,37 @@ def _cmd_run(args: argparse.Namespace) -> int:
     _check_out(study, out)
     bars = []
 
-    def progress(total_steps: int, n_transects: int):
+    def stage(name: str, total: int, unit: str):
+        """A progress bar for one stage, shown only if the stage takes over two seconds."""
         from tqdm import tqdm
 
         bar = tqdm(
-            total=total_steps * n_transects,
-            unit=" transect-steps",
+            total=total,
+            desc=name,
+            unit=unit,
             unit_scale=True,
             delay=2.0,
             disable=args.quiet or not sys.stderr.isatty(),
             leave=False,
         )
         bars.append(bar)
-        return lambda steps: bar.update(steps * n_transects)
+        return bar.update
+
+    def progress(total_steps: int, n_transects: int):
+        tick = stage("transport", total_steps * n_transects, " transect-steps")
+        return lambda steps: tick(steps * n_transects)
 
     notes: list[str] = []
     with output_lock(out):  # held from the start: a second run into ``out`` refuses at once
         try:
-            result = run_study(study, chunk_steps=args.chunk, progress=progress)
+            result = run_study(study, chunk_steps=args.chunk, progress=progress, stage=stage)
+            extra = None if args.no_figures else (lambda tmp: _figures_and_report(tmp, stage))
+            command = _recorded_command(args, study, out)
+            tick = stage("writing", len(result.scenarios), " scenarios")
+            write_run(result, out, command, started, extra=extra, notes=notes, progress=tick)
         finally:
             for bar in bars:
                 bar.close()
-        extra = None if args.no_figures else _figures_and_report
-        command = _recorded_command(args, study, out)
-        write_run(result, out, command, started, extra=extra, notes=notes)
     _notes(notes)
     if not args.quiet:
         _say(summary_text(result, out))

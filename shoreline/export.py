@@ -606,11 +606,13 @@ def write_run(
     started_utc: str,
     extra: Callable[[Path], Any] | None = None,
     notes: list[str] | None = None,
+    progress: Callable[[int], None] | None = None,
 ) -> list[Path]:
     """Write every scenario folder and run.json as the whole of ``out_dir`` (see publish).
 
     ``extra(tmp)`` may add more (figures, the report) before the new folder is swapped in;
-    ``notes`` collects lines for the user that are no failure.
+    ``notes`` collects lines for the user that are no failure; ``progress(1)`` is called after
+    each scenario is written.
     """
     names: list[Path] = []
 
@@ -618,6 +620,8 @@ def write_run(
         for scenario in result.scenarios:
             written = write_scenario(tmp / scenario.name, result, scenario)
             names.extend(out_dir / p.relative_to(tmp) for p in written)
+            if progress is not None:
+                progress(1)
         record = run_record(result, command, started_utc)
         # the numbers of each scenario, fingerprinted: a re-run with the same inputs and
         # settings gives the same fingerprints (the table holds no times or paths)

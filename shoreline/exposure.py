@@ -53,6 +53,7 @@ there, scale factor 0.9996), sea to the south, with a detached breakwater 500 m 
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
@@ -338,8 +339,10 @@ def compute_exposure(
     spreading_s: float | None = DEFAULT_SPREADING_S,
     wavelength_m: float | None = DEFAULT_WAVELENGTH_M,
     grazing_radius_m: float | None = GRAZING_RADIUS_M,
+    progress: Callable[[int], None] | None = None,
 ) -> Exposure:
     """Cast rays over the water from every transect; find open directions, shares and fetch.
+
 
     Parameters
     ----------
@@ -375,6 +378,8 @@ def compute_exposure(
     grazing_radius_m : float or None, default 20000.0
         Minimum radius of curvature of the coast's own bend that grazing rays may run along
         without being sheltered [m]; None or ``inf``: off.
+    progress : callable, optional
+        Told the number of transects done after each chunk of rays (a progress bar).
 
     Returns
     -------
@@ -584,6 +589,8 @@ def compute_exposure(
             hit_ground[rows], cos_turn[rows] = _first_hits(
                 rows, sx, sy, k0, gx, gy, beta, normal_v, cast, directions, step, d_m, seg, tree
             )
+            if progress is not None:
+                progress(len(rows))
 
     hit = cast & np.isfinite(hit_ground)
     blocked = hit.copy()

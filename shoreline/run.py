@@ -910,12 +910,15 @@ def run_study(
     study: Study,
     chunk_steps: int | None = None,
     progress: Callable[[int, int], Callable[[int], None]] | None = None,
+    stage: Callable[[str, int, str], Callable[[int], None]] | None = None,
 ) -> RunResult:
     """Run a validated study and its scenarios; return every result (nothing is written).
 
     ``chunk_steps`` overrides ``[waves] chunk_steps``. ``progress(total_steps, n_transects)``,
     if given, is called once with the number of time steps the run will evaluate and returns
     the callback that each chunk reports its steps to (the command line's progress bar).
+    ``stage(name, total, unit)``, if given, returns the progress callback of another stage
+    (the sheltering rays, per transect).
     """
     timings: dict[str, float] = {}
     t0 = time.perf_counter()
@@ -943,6 +946,7 @@ def run_study(
         start_offset_m=c["ray_start_m"],
         spreading_s=study["waves"]["spreading_s"],
         wavelength_m=shadow_wavelength_m(climate),
+        progress=stage("sheltering", len(transects), " transects") if stage else None,
     )
     timings["exposure"] = time.perf_counter() - t0
     shore = shore_type_of(study, coast, transects, exposure)

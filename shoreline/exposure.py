@@ -343,7 +343,6 @@ def compute_exposure(
 ) -> Exposure:
     """Cast rays over the water from every transect; find open directions, shares and fetch.
 
-
     Parameters
     ----------
     transects : shoreline.coast.Transects

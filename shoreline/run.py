@@ -406,6 +406,105 @@ def load_transects(study: Study) -> tuple[CoastLines, Transects]:
     return coast, transects
 
 
+#: The sea side of lines is called wrong when at most this share of their transects see the open
+#: sea and at least the complementary share would with the other side.
+SEA_SIDE_EVIDENCE = 0.2
+
+#: Transects of lines looked at for that check (an even sample).
+_SEA_SIDE_SAMPLE = 400
+
+
+def check_sea_side(
+    study: Study,
+    coast: CoastLines,
+    transects: Transects,
+    exposure: Exposure,
+    land: list,
+    climate: WaveClimate,
+) -> str | None:
+    """Stop, or warn, when ``[coast] sea`` puts the sea on the land side of the lines.
+
+    With the wrong side every seaward normal points inland. Two independent signs, each taken
+    over an even sample of the lines' transects and compared with the other side:
+
+    - the waves come from land: at most :data:`SEA_SIDE_EVIDENCE` of the record's wave energy
+      (Hs^2 x duration) comes from within 90 degrees of the normals as given, and at least
+      ``1 - SEA_SIDE_EVIDENCE`` would with the other side (the run would report a sheltered,
+      perfectly stable coast);
+    - the view is blocked: at most that share of the transects see the open sea
+      (:mod:`shoreline.exposure`: rays start on the study's land, or meet it at once), and at
+      least the complement would with the other side.
+
+    The first sign alone is a warning (returned), since a study may give waves from land on
+    purpose; the second is an error.
+
+    Raises
+    ------
+    StudyError
+        Naming the side the data suggest.
+    """
+    sea = study["coast"]["sea"]
+    warning = None
+    if sea is None:
+        return None
+    lines = np.flatnonzero(~transects.part_closed & np.isfinite(transects.normal_az_deg))
+    if lines.size < 5:
+        return None
+    pick = lines[
+        np.unique(np.linspace(0, lines.size - 1, min(lines.size, _SEA_SIDE_SAMPLE)).astype(int))
+    ]
+    normal = transects.normal_az_deg[pick]
+    flip = "left" if sea == "right" else "right"
+    # the waves' side
+    direction = np.atleast_2d(climate.dir_deg).reshape(-1)
+    energy = (np.atleast_2d(climate.hs_m) ** 2 * climate.duration_s).reshape(-1)
+    ok = np.isfinite(direction) & np.isfinite(energy)
+    if ok.any() and energy[ok].sum() > 0:
+        seaward = np.abs(wrap_deg(direction[ok][None, :] - normal[:, None])) < 90.0
+        as_given = float(np.mean(seaward @ energy[ok]) / energy[ok].sum())
+        if as_given <= SEA_SIDE_EVIDENCE:
+            warning = (
+                f'CHECK THE SEA SIDE: [coast] sea = "{sea}" puts the sea on the side the waves '
+                f"do not come from: only {as_given:.0%} of the record's wave energy reaches the "
+                f"lines' transects from their seaward side, {1.0 - as_given:.0%} would with "
+                f'sea = "{flip}"; unless the waves really come from land, the data suggest '
+                f'sea = "{flip}" (the side of the digitised direction the sea is on)'
+            )
+    # the view's side
+    if getattr(exposure, "open_coast", None) is None:
+        return warning
+    as_given = float(np.mean(exposure.open_coast[pick]))
+    if as_given > SEA_SIDE_EVIDENCE:
+        return warning
+    turned = Transects(
+        transect_id=np.arange(pick.size),
+        part_id=transects.part_id[pick],
+        chainage_m=transects.chainage_m[pick],
+        x_m=transects.x_m[pick],
+        y_m=transects.y_m[pick],
+        normal_az_deg=np.mod(normal + 180.0, 360.0),
+        spacing_m=transects.spacing_m[pick],
+        part_closed=transects.part_closed[pick],
+        working_crs=transects.working_crs,
+    )
+    c = study["coast"]
+    other = compute_exposure(
+        turned,
+        list(coast.parts),
+        land=land or None,
+        max_distance_m=c["exposure_distance_m"],
+        start_offset_m=c["ray_start_m"],
+    )
+    if float(np.mean(other.open_coast)) >= 1.0 - SEA_SIDE_EVIDENCE:
+        raise StudyError(
+            f'{study.path.name}: [coast] sea = "{sea}" puts the sea on the land side: only '
+            f"{as_given:.0%} of the lines' transects see the open sea that way, "
+            f"{np.mean(other.open_coast):.0%} would with the other side; the data suggest "
+            f'sea = "{flip}" (the side of the digitised direction the sea is on)'
+        )
+    return warning
+
+
 def shore_type_of(
     study: Study, coast: CoastLines, transects: Transects, exposure: Exposure | None
 ) -> np.ndarray:
@@ -949,6 +1048,7 @@ def run_study(
         progress=stage("sheltering", len(transects), " transects") if stage else None,
     )
     timings["exposure"] = time.perf_counter() - t0
+    sea_warning = check_sea_side(study, coast, transects, exposure, land, climate)
     shore = shore_type_of(study, coast, transects, exposure)
     point_index = nearest_wave_point(climate, transects)
     chunk_steps = chunk_steps or study["waves"]["chunk_steps"] or None
@@ -982,7 +1082,8 @@ def run_study(
         shore=shore,
     )
     timings["reference"] = time.perf_counter() - t0
-    warnings = list(coast.warnings) + list(transects.warnings) + list(climate.warnings)
+    warnings = [sea_warning] if sea_warning else []
+    warnings += list(coast.warnings) + list(transects.warnings) + list(climate.warnings)
     if fitted is not None:
         warnings += fitted.warnings
     results = [reference]

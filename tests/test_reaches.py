@@ -86,3 +86,39 @@ def test_non_erodible_reach_does_not_erode(tmp_path):
     assert np.nanmin(free["rate_m_per_yr"][hard]) < -0.5  # it would erode
     assert np.all(cols["rate_m_per_yr"][hard] >= -1e-9)
     assert set(cols["class"][hard]) <= {"stable", "accretion"}
+
+
+def test_wrong_sea_side_on_the_demo_is_warned_loudly(tmp_path):
+    # The demo is digitised north-west to south-east with the sea to the south-west (on the
+    # right); its record's waves come from the south-west. With sea = "left" the normals point
+    # inland and the waves come from land (DESIGN.md: such waves move no sand): the run must
+    # not report a quiet stable coast without saying which side the data suggest.
+    import shutil
+    from pathlib import Path
+
+    demo = Path(__file__).parents[1] / "demo_coast"
+    for name in ("coast.geojson", "waves.csv"):
+        shutil.copy(demo / name, tmp_path / name)
+    text = (demo / "study.toml").read_text().replace('sea = "right"', 'sea = "left"')
+    text = text.split("[[scenario]]")[0]
+    (tmp_path / "study.toml").write_text(text)
+    result = run_study(read_study(tmp_path / "study.toml"))
+    loud = [w for w in result.warnings if w.startswith("CHECK THE SEA SIDE")]
+    assert loud and 'suggest sea = "right"' in loud[0]
+    assert result.warnings[0] == loud[0]  # first, before every other warning
+
+
+def test_wrong_sea_side_with_land_polygons_stops(tmp_path, capsys):
+    # Land given as a polygon on the north side of a coast digitised west to east: the sea is
+    # on the right. With sea = "left" the rays start on land: no transect sees the sea.
+    from shoreline.cli import main
+
+    write_coast(tmp_path, *straight())
+    write_polygon(tmp_path / "land.gpkg", [-6000, 6000, 6000, -6000], [0.0, 0.0, 4000.0, 4000.0])
+    text = write_study(tmp_path, "coast.geojson", STEADY).read_text()
+    text = text.replace('sea = "right"', 'sea = "left"\nland = "land.gpkg"')
+    (tmp_path / "s.toml").write_text(text)
+    code = main(["run", str(tmp_path / "s.toml"), "--out", str(tmp_path / "o"), "--quiet"])
+    err = capsys.readouterr().err.strip()
+    assert code != 0 and len(err.splitlines()) == 1
+    assert 'the data suggest sea = "right"' in err

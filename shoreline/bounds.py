@@ -91,6 +91,13 @@ BOUNDS: dict[str, Bound] = {
         "our choice",
     ),
     "max_gap_h": Bound(0.0, 8766.0, "h", "one year: a longer step is no record", "our choice"),
+    "open_sea_distance_m": Bound(
+        1000.0,
+        1000000.0,
+        "m",
+        "from a harbour basin's width to the width of a small ocean basin",
+        "our choice",
+    ),
     "ray_start_m": Bound(
         1.0,
         5000.0,

@@ -32,7 +32,7 @@ from __future__ import annotations
 import functools
 import os
 import warnings
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import geopandas
 import numpy as np
@@ -236,6 +236,23 @@ class Transects:
     def __len__(self) -> int:
         """Return the number of transects."""
         return len(self.transect_id)
+
+    def subset(self, rows) -> Transects:
+        """The transects at ``rows`` (renumbered from 0), with no warnings."""
+        rows = np.asarray(rows)
+        return replace(
+            self,
+            transect_id=np.arange(rows.size),
+            part_id=self.part_id[rows],
+            chainage_m=self.chainage_m[rows],
+            x_m=self.x_m[rows],
+            y_m=self.y_m[rows],
+            normal_az_deg=self.normal_az_deg[rows],
+            spacing_m=self.spacing_m[rows],
+            part_closed=self.part_closed[rows],
+            grid_m=None if self.grid_m is None else self.grid_m[rows],
+            warnings=[],
+        )
 
     def lines(self, length_m) -> np.ndarray:
         """Return each transect as a line from its shore point seaward along its normal.
@@ -1288,7 +1305,7 @@ SIGMA_PER_WINDOW = 1.0 / 5.0
 
 #: Residual orientation noise [deg] that the automatic orientation window brings a line under
 #: (see :func:`_choose_window` and docs/methods.md).
-ORIENTATION_NOISE_TOL_DEG = 0.5
+ORIENTATION_NOISE_TOL_DEG = 0.25
 
 #: Windows the automatic choice tries, shortest first [m].
 AUTO_WINDOWS_M = (1000.0, 1500.0, 2000.0, 3000.0, 4000.0, 6000.0, 8000.0, 12000.0, 16000.0)

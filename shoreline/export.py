@@ -27,7 +27,7 @@ from shoreline.cautions import CAUTION, caution_lines
 from shoreline.climate import joint_histogram
 from shoreline.coast import CoastLines, Transects, chainage_positions, interp_extrapolate
 from shoreline.folders import publish
-from shoreline.run import RunResult, ScenarioResult
+from shoreline.run import RunResult, ScenarioResult, min_hotspot_length_m
 from shoreline.transport import SECONDS_PER_YEAR
 
 #: Columns of the hotspot layer, in order.
@@ -67,7 +67,7 @@ def key_settings(result: RunResult) -> dict[str, Any]:
         "berm_height_m": st["model"]["berm_height_m"],
         "d50_mm": st["sediment"]["d50_mm"],
         "spacing_m": st["coast"]["spacing_m"],
-        "orientation_window_m": st["coast"]["orientation_window_m"],
+        "orientation_window_m": result.transects.orientation_window_m,
         "stable_band_m_per_yr": st["classify"]["stable_band_m_per_yr"],
         "units": "SI; q positive toward increasing chainage; rate positive = accretion",
     }
@@ -539,7 +539,7 @@ def scenario_summary(result: RunResult, scenario: ScenarioResult) -> dict[str, A
         "primary": st["model"]["primary"],
         "formulas": st["model"]["formulas"],
         **bands,
-        "min_hotspot_length_m": st["classify"]["min_hotspot_length_m"],
+        "min_hotspot_length_m": min_hotspot_length_m(result.study, result.transects),
         "closure_depth_m": float(np.mean(scenario.closure_depth_m)),
         "closure_depth_range_m": [
             float(np.min(scenario.closure_depth_m)),

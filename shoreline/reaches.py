@@ -88,6 +88,47 @@ def read_reaches(path: Path, transects: Transects, layer: str | None = None):
     return out["exclude"], out["non_erodible"]
 
 
+#: Angle between the long rays of :func:`reaches_open_sea` [deg].
+OPEN_SEA_STEP_DEG = 3.0
+
+def reaches_open_sea(
+    transects: Transects,
+    coast_parts: list,
+    land: list | None,
+    distance_m: float,
+    start_m: float,
+    rows: np.ndarray,
+) -> np.ndarray:
+    """Whether each transect's view reaches the open sea over ``distance_m`` (long rays).
+
+    The sheltering rays look ``exposure_distance_m`` far; a sound, a fjord or a wide lagoon
+    behind a barrier can be wider than that and look open. Here rays every
+    :data:`OPEN_SEA_STEP_DEG` are cast ``distance_m`` far against the coast and land
+    (:func:`shoreline.exposure.compute_exposure`, geometric, with its grazing rule), from the
+    transects of ``rows`` (the others are returned False);
+    a transect reaches the open sea when the view factor of these rays passes the same test
+    as the short rays' (``open_coast``).
+    """
+    from shoreline.exposure import compute_exposure
+
+    out = np.zeros(len(transects), dtype=bool)
+    pick = np.flatnonzero(rows)
+    if pick.size == 0:
+        return out
+    far = compute_exposure(
+        transects.subset(pick),
+        coast_parts,
+        land=land or None,
+        max_distance_m=distance_m,
+        step_deg=OPEN_SEA_STEP_DEG,
+        start_offset_m=start_m,
+        spreading_s=None,
+        wavelength_m=None,
+    )
+    out[pick] = far.open_coast
+    return out
+
+
 def shore_types(
     n: int,
     enclosed: np.ndarray | None = None,

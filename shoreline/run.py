@@ -48,7 +48,7 @@ from shoreline.coast import (
 )
 from shoreline.errors import CoastError, StudyError, one_line
 from shoreline.exposure import Exposure, compute_exposure
-from shoreline.reaches import read_reaches, shore_types
+from shoreline.reaches import reaches_open_sea, read_reaches, shore_types
 from shoreline.structures import Structures, Trapping, read_structures
 from shoreline.study import Study
 
@@ -272,6 +272,25 @@ def transport_reductions(
     )
 
 
+#: The shortest hotspot "auto" allows [m].
+MIN_HOTSPOT_FLOOR_M = 300.0
+
+
+def min_hotspot_length_m(study: Study, transects: Transects) -> float:
+    """The shortest run of one class that is a hotspot [m].
+
+    As the study gives it, or ("auto") the longer of 300 m and half the orientation window:
+    a stretch shorter than half the window is finer than the orientation, and so the rate,
+    resolves (docs/methods.md).
+    """
+    given = study["classify"]["min_hotspot_length_m"]
+    if given != "auto":
+        return float(given)
+    window = transects.orientation_window_m
+    half = 0.5 * float(window) if np.isfinite(window) else 0.0
+    return max(MIN_HOTSPOT_FLOOR_M, half)
+
+
 def budget_scale_m(transects: Transects) -> float:
     """The along-shore scale of the transport gradient: the orientation fit's Gaussian sigma [m].
 
@@ -476,17 +495,7 @@ def check_sea_side(
     as_given = float(np.mean(exposure.open_coast[pick]))
     if as_given > SEA_SIDE_EVIDENCE:
         return warning
-    turned = Transects(
-        transect_id=np.arange(pick.size),
-        part_id=transects.part_id[pick],
-        chainage_m=transects.chainage_m[pick],
-        x_m=transects.x_m[pick],
-        y_m=transects.y_m[pick],
-        normal_az_deg=np.mod(normal + 180.0, 360.0),
-        spacing_m=transects.spacing_m[pick],
-        part_closed=transects.part_closed[pick],
-        working_crs=transects.working_crs,
-    )
+    turned = replace(transects.subset(pick), normal_az_deg=np.mod(normal + 180.0, 360.0))
     c = study["coast"]
     other = compute_exposure(
         turned,
@@ -506,7 +515,11 @@ def check_sea_side(
 
 
 def shore_type_of(
-    study: Study, coast: CoastLines, transects: Transects, exposure: Exposure | None
+    study: Study,
+    coast: CoastLines,
+    transects: Transects,
+    exposure: Exposure | None,
+    land: list | None = None,
 ) -> np.ndarray:
     """The shore type of every transect (:mod:`shoreline.reaches`).
 
@@ -518,6 +531,15 @@ def shore_type_of(
     enclosed = None
     if exposure is not None and getattr(exposure, "open_coast", None) is not None:
         enclosed = ~np.asarray(exposure.open_coast, dtype=bool)
+        c = study["coast"]
+        enclosed |= ~reaches_open_sea(
+            transects,
+            list(coast.parts),
+            land,
+            c["open_sea_distance_m"],
+            c["ray_start_m"],
+            ~enclosed,
+        )
     edge = None
     if coast.data_edges is not None:
         points = shapely.points(transects.x_m, transects.y_m)
@@ -793,7 +815,7 @@ def evaluate(
         transects.spacing_m,
         transects.part_closed,
         active_m,
-        k["min_hotspot_length_m"],
+        min_hotspot_length_m(study, transects),
     )
     hotspot_id = np.full(len(transects), -1)
     for h in hotspots:
@@ -1049,7 +1071,7 @@ def run_study(
     )
     timings["exposure"] = time.perf_counter() - t0
     sea_warning = check_sea_side(study, coast, transects, exposure, land, climate)
-    shore = shore_type_of(study, coast, transects, exposure)
+    shore = shore_type_of(study, coast, transects, exposure, land)
     point_index = nearest_wave_point(climate, transects)
     chunk_steps = chunk_steps or study["waves"]["chunk_steps"] or None
     specs = [(spec, *scenario_climate(spec, study, climate, exposure)) for spec in study.scenarios]

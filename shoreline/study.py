@@ -90,6 +90,12 @@ _window = _bounded_or("auto", "orientation_window_m")
 _cerc_k = _bounded_or("del_valle", "cerc_k")
 
 
+def _min_length(v: Any) -> str | None:
+    if isinstance(v, str):
+        return None if v == "auto" else '"auto" or a length in metres >= 0'
+    return None if v >= 0 else '"auto" or a length in metres >= 0'
+
+
 def _formulas(v: Any) -> str | None:
     bad = [f for f in v if f not in KNOWN_FORMULAS]
     if bad or not v:
@@ -123,6 +129,12 @@ SCHEMA: dict[str, dict[str, Key]] = {
             20000.0,
             check=_bounded("exposure_distance_m"),
             doc="how far from the shore land is looked for",
+        ),
+        "open_sea_distance_m": Key(
+            "float",
+            100000.0,
+            check=_positive,
+            doc="how far a shore's view must reach to count as open sea (sounds, fjords)",
         ),
         "ray_start_m": Key(
             "float",
@@ -215,7 +227,10 @@ SCHEMA: dict[str, dict[str, Key]] = {
             "float", 0.5, check=_non_negative, doc="|rate| below this is stable"
         ),
         "min_hotspot_length_m": Key(
-            "float", 300.0, check=_non_negative, doc="shortest run that is a hotspot"
+            "float-or-str",
+            "auto",
+            check=_min_length,
+            doc='shortest run that is a hotspot; "auto": 300 m or half the orientation window',
         ),
         "event_stable_band_m": Key(
             "float",

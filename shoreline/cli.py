@@ -107,7 +107,7 @@ def _default_out(study_path: Path, out: Path | None) -> Path:
     return out if out is not None else study_path.resolve().parent / "out"
 
 
-def _figures_and_report(folder: Path, stage=None) -> list[Path]:
+def figures_and_report(folder: Path, stage=None) -> list[Path]:
     """Write every scenario's figures, then the report, into an output folder; return them.
 
     ``stage(name, total)``, if given, returns the progress callback of the figures stage.
@@ -165,14 +165,10 @@ def _recorded_command(args: argparse.Namespace, study, out: Path) -> list[str]:
 
 def _check_out(study, out: Path) -> None:
     """Refuse an output folder that may not be replaced, or that holds an input of the study."""
+    from shoreline.api import refuse_inputs_inside
+
     check_output_folder(out)
-    real = Path(os.path.realpath(out))
-    for path in (study.path, study.coast_file, study.wave_file, study.structures_file):
-        if path is not None and real in Path(os.path.realpath(path)).parents:
-            raise OutputError(
-                f"{out}: the output folder holds an input of the study ({path.name}) and is "
-                "replaced whole by a run; choose another --out"
-            )
+    refuse_inputs_inside(study, out)
 
 
 def _notes(notes: list[str]) -> None:
@@ -181,12 +177,9 @@ def _notes(notes: list[str]) -> None:
 
 
 def _cmd_run(args: argparse.Namespace) -> int:
-    from shoreline.export import utc_now, write_run
-    from shoreline.run import run_study
-    from shoreline.study import read_study
+    from shoreline import api
 
-    started = utc_now()
-    study = read_study(require_regular_file(args.study, "study file", StudyError))
+    study = api.read_study(args.study)
     if args.chunk is not None and args.chunk < 1:
         raise StudyError(f"--chunk {args.chunk}: expected a whole number of time steps >= 1")
     out = _default_out(args.study, args.out)
@@ -213,17 +206,21 @@ def _cmd_run(args: argparse.Namespace) -> int:
         tick = stage("transport", total_steps * n_transects, " transect-steps")
         return lambda steps: tick(steps * n_transects)
 
-    notes: list[str] = []
     with output_lock(out):  # held from the start: a second run into ``out`` refuses at once
         try:
-            result = run_study(study, chunk_steps=args.chunk, progress=progress, stage=stage)
-            extra = None if args.no_figures else (lambda tmp: _figures_and_report(tmp, stage))
-            command = _recorded_command(args, study, out)
-            tick = stage("writing", len(result.scenarios), " scenarios")
-            write_run(result, out, command, started, extra=extra, notes=notes, progress=tick)
+            results = api.screen(study, chunk_steps=args.chunk, progress=progress, stage=stage)
+            notes = results.write(
+                out,
+                figures=not args.no_figures,
+                command=_recorded_command(args, study, out),
+                progress=stage("writing", len(results.scenario_names), " scenarios"),
+                stage=stage,
+                lock=False,
+            )
         finally:
             for bar in bars:
                 bar.close()
+    result = results.run
     _notes(notes)
     if not args.quiet:
         _say(summary_text(result, out))
@@ -367,7 +364,7 @@ def _cmd_report(args: argparse.Namespace) -> int:
     if not (folder / "run.json").exists():
         raise OutputError(f"{folder}: not an output folder of 'shoreline run' (no run.json)")
     with output_lock(folder):
-        written = _figures_and_report(folder)
+        written = figures_and_report(folder)
     lines = list(caution_lines())
     if not args.quiet:
         lines.append(f"redrawn in {folder}:")

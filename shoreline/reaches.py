@@ -91,6 +91,7 @@ def read_reaches(path: Path, transects: Transects, layer: str | None = None):
 #: Angle between the long rays of :func:`reaches_open_sea` [deg].
 OPEN_SEA_STEP_DEG = 3.0
 
+
 def reaches_open_sea(
     transects: Transects,
     coast_parts: list,

@@ -382,6 +382,7 @@ class RunResult:
     structures: Structures | None = None
     calibration: dict[str, Any] | None = None
     land: list = field(default_factory=list)
+    started_utc: str | None = None
 
 
 def load_climate(study: Study) -> WaveClimate:

@@ -286,7 +286,8 @@ def smooth_along_shore(
     a Gaussian smoothing inside a segment that keeps linear trends up to its ends (locally
     weighted regression, Cleveland 1979). Segments never join different parts; closed parts
     without a cut wrap. ``sigma_m`` <= 0 returns copies. With ``slopes`` the fitted slopes
-    [unit per m] follow the values in the returned list.
+    [unit per m] follow the values in the returned list. A value array of shape (n, m) is
+    m fields along the same transects (ensemble members), each smoothed as if alone.
 
     Examples
     --------
@@ -300,7 +301,7 @@ def smooth_along_shore(
     values = [np.asarray(v, dtype=float) for v in values]
     n = len(part_id)
     if sigma_m <= 0 or n == 0:
-        return [v.copy() for v in values] + ([np.zeros(n) for _ in values] if slopes else [])
+        return [v.copy() for v in values] + ([np.zeros(v.shape) for v in values] if slopes else [])
     part_id = np.asarray(part_id)
     seg = np.zeros(n, dtype=int) if segment is None else np.asarray(segment)
     first = np.zeros(n, dtype=int)
@@ -313,9 +314,10 @@ def smooth_along_shore(
     reach = np.where(ring, np.minimum(reach, (size - 1) // 2), np.minimum(reach, size - 1))
     big = int(reach.max()) if n else 0
     k = np.arange(-big, big + 1)
-    out = [np.empty(n) for _ in values]
-    grad = [np.empty(n) for _ in values]
-    chunk = max(1, 2_000_000 // (2 * big + 1))
+    out = [np.empty(v.shape) for v in values]
+    grad = [np.empty(v.shape) for v in values]
+    width = max([int(np.prod(v.shape[1:])) for v in values] + [1])  # fields per transect
+    chunk = max(1, 2_000_000 // ((2 * big + 1) * width))
     for a0 in range(0, n, chunk):
         rows = np.arange(a0, min(n, a0 + chunk))
         pos = rows[:, None] - first[rows, None] + k[None, :]
@@ -333,11 +335,14 @@ def smooth_along_shore(
         du = u - ubar[:, None]
         suu = (w * du * du).sum(axis=1)
         for v, o, g in zip(values, out, grad, strict=True):
-            vv = v[idx]
-            vbar = (w * vv).sum(axis=1) / sw
+            vv = v[idx]  # (rows, window) or (rows, window, m)
+            extra = (None,) * (v.ndim - 1)
+            wk, duk = w[(..., *extra)], du[(..., *extra)]
+            vbar = (wk * vv).sum(axis=1) / sw[(..., *extra)]
             with np.errstate(invalid="ignore", divide="ignore"):
-                slope = np.where(suu > 0, (w * du * (vv - vbar[:, None])).sum(axis=1) / suu, 0.0)
-            o[rows] = vbar - slope * ubar
+                slope = (wk * duk * (vv - vbar[:, None])).sum(axis=1) / suu[(..., *extra)]
+            slope = np.where(suu[(..., *extra)] > 0, slope, 0.0)
+            o[rows] = vbar - slope * ubar[(..., *extra)]
             g[rows] = slope
     return out + (grad if slopes else [])
 
@@ -382,10 +387,14 @@ def face_budget(
       Kraus 1986, from memory).
 
     ``sum(dQ/dx x width)`` over a segment equals its end fluxes' difference exactly.
+
+    ``q_pos`` and ``q_neg`` of shape (n, m) are m transport fields (ensemble members) on the
+    same transects: every result gets the trailing axis, each column as if alone.
     """
     q_pos = np.asarray(q_pos, dtype=float)
     q_neg = np.asarray(q_neg, dtype=float)
-    n = q_pos.size
+    n = q_pos.shape[0]
+    trail = q_pos.shape[1:]
     part_id = np.asarray(part_id)
     dx = np.asarray(spacing_m, dtype=float)
     ring = np.asarray(closed, dtype=bool)
@@ -413,8 +422,8 @@ def face_budget(
     qs = ps + ns
 
     width = dx.copy()
-    right = np.empty(n)
-    left = np.empty(n)
+    right = np.empty(q_pos.shape)
+    left = np.empty(q_pos.shape)
     j = np.where(has_next, nxt, 0)
     inner = has_next & ~cut
     right[inner] = 0.5 * (qs[inner] + qs[j[inner]])
@@ -430,20 +439,20 @@ def face_budget(
     left[cut_left] = qs[cut_left]
     width[cut_left] *= 0.5
 
-    arriving = np.zeros(faces.size)
-    passing = np.zeros(faces.size)
+    arriving = np.zeros((faces.size, *trail))
+    passing = np.zeros((faces.size, *trail))
     for s, (i, b) in enumerate(zip(faces, bypass, strict=True)):
         if nxt[i] < 0 or ex[i] or ex[nxt[i]]:
             continue
         k = nxt[i]
         # each side's field at the face, from that side's own fit
-        arriving[s] = max(ps[i] + 0.5 * dx[i] * dps[i], 0.0) - min(
+        arriving[s] = np.maximum(ps[i] + 0.5 * dx[i] * dps[i], 0.0) - np.minimum(
             ns[k] - 0.5 * dx[k] * dns[k], 0.0
         )
         passing[s] = b * arriving[s]
         if b < 1.0:
-            up = max(ps[i] + 0.5 * dx[i] * dps[i], 0.0)
-            down = min(ns[k] - 0.5 * dx[k] * dns[k], 0.0)
+            up = np.maximum(ps[i] + 0.5 * dx[i] * dps[i], 0.0)
+            down = np.minimum(ns[k] - 0.5 * dx[k] * dns[k], 0.0)
             flux = b * (up + down)
             right[i] = left[k] = flux
             width[i], width[k] = dx[i], dx[k]  # full cells on both sides of a structure
@@ -452,7 +461,7 @@ def face_budget(
         _limit_hard(np.asarray(hard, dtype=bool) & ~ex, left, right, nxt, prev)
 
     with np.errstate(invalid="ignore"):
-        dqdx = (right - left) / width
+        dqdx = (right - left) / width.reshape((n,) + (1,) * len(trail))
     dqdx[ex] = np.nan
     return FaceBudget(dqdx, qs, arriving, passing, arriving - passing)
 
@@ -465,9 +474,9 @@ def _limit_hard(hard, left, right, nxt, prev) -> None:
         run = [a]
         while nxt[run[-1]] >= 0 and hard[nxt[run[-1]]] and nxt[run[-1]] != a and len(run) < n:
             run.append(nxt[run[-1]])
-        f = np.r_[left[run[0]], right[run]]
-        pos = np.minimum.accumulate(np.maximum(f, 0.0))
-        neg = np.maximum.accumulate(np.minimum(f, 0.0)[::-1])[::-1]
+        f = np.concatenate([left[run[0]][None], right[run]])
+        pos = np.minimum.accumulate(np.maximum(f, 0.0), axis=0)
+        neg = np.maximum.accumulate(np.minimum(f, 0.0)[::-1], axis=0)[::-1]
         f = pos + neg
         left[run[0]] = f[0]
         if prev[run[0]] >= 0:

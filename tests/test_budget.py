@@ -163,3 +163,34 @@ def test_face_budget_without_smoothing_is_the_central_difference():
     part, dx, closed = np.zeros(5, int), np.ones(5), np.zeros(5, bool)
     fb = face_budget(q, 0 * q, part, dx, closed, 0.0)
     np.testing.assert_allclose(fb.dqdx_m2_per_yr, alongshore_gradient(q, part, dx, closed))
+
+
+def test_face_budget_of_many_fields_is_each_field_alone():
+    # Ensemble members evaluated at once (shape (n, m)) against the same budget run on each
+    # member by itself: an independent reference computation (the ordinary 1-D path), on a
+    # coast with an excluded reach, a hard reach, a ring and two structures (one bypassing half).
+    rng = np.random.default_rng(11)
+    part = np.r_[np.zeros(60, int), np.ones(40, int)]
+    dx = np.r_[np.full(60, 100.0), np.full(40, 50.0)]
+    closed = np.r_[np.zeros(60, bool), np.ones(40, bool)]
+    excluded = np.zeros(100, bool)
+    excluded[10:13] = True
+    hard = np.zeros(100, bool)
+    hard[30:38] = True
+    hard[70:75] = True
+    q = rng.normal(1e5, 8e4, (100, 7))
+    pos, neg = np.maximum(q, 0) * 1.3, np.minimum(q, 0) * 0.7
+    kwargs = {
+        "sigma_m": 250.0,
+        "excluded": excluded,
+        "hard": hard,
+        "structure_face": np.array([20, 80]),
+        "structure_bypass": np.array([0.0, 0.5]),
+    }
+    many = face_budget(pos, neg, part, dx, closed, **kwargs)
+    assert many.dqdx_m2_per_yr.shape == (100, 7)
+    for j in range(7):
+        one = face_budget(pos[:, j], neg[:, j], part, dx, closed, **kwargs)
+        np.testing.assert_allclose(many.dqdx_m2_per_yr[:, j], one.dqdx_m2_per_yr, rtol=1e-12)
+        np.testing.assert_allclose(many.q_smooth[:, j], one.q_smooth, rtol=1e-12)
+        np.testing.assert_allclose(many.trapped[:, j], one.trapped, rtol=1e-12, atol=1e-6)

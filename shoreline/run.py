@@ -22,7 +22,7 @@ from typing import Any
 import numpy as np
 import shapely
 
-from shoreline import calibrate, profile, transport, waves, wind
+from shoreline import calibrate, ensemble, profile, transport, waves, wind
 from shoreline.budget import (
     Hotspot,
     classify,
@@ -367,6 +367,7 @@ class ScenarioResult:
     closure_depth_m: np.ndarray
     info: dict[str, Any] = field(default_factory=dict)
     trapping: Trapping | None = None
+    ensemble: ensemble.EnsembleResult | None = None  # with [uncertainty] (shoreline.ensemble)
 
 
 @dataclass
@@ -1105,6 +1106,9 @@ def run_study(
         shore=shore,
     )
     timings["reference"] = time.perf_counter() - t0
+    chain = {"point_index": point_index, "structures": structures, "shore": shore}
+    chain |= {"exposure": exposure, "coefficients": coefficients}
+    ensemble.attach(reference, study, climate, transects, sign, timings, **chain)
     warnings = [sea_warning] if sea_warning else []
     warnings += list(coast.warnings) + list(transects.warnings) + list(climate.warnings)
     if fitted is not None:
@@ -1138,6 +1142,8 @@ def run_study(
         )
         results.append(result)
         timings[f"scenario:{spec['name']}"] = time.perf_counter() - t0
+        own = {"exposure": None} if spec.get("fetch_km") == "auto" else {}
+        ensemble.attach(result, study, sc_climate, transects, sign, timings, **chain | own)
     if np.all(reference.columns["class"] == "sheltered"):
         warnings.append(
             "no reference wave reaches any transect (waves from land, or land in the way within "
@@ -1145,6 +1151,7 @@ def run_study(
             'fetch_km = "auto"'
         )
     for result in results:
+        warnings += result.ensemble.warnings if result.ensemble is not None else []
         broken = result.columns["broken_at_input_fraction"]
         if np.any(broken > 0):
             warnings.append(

@@ -295,6 +295,7 @@ class Study:
     settings: dict[str, dict[str, Any]] = field(default_factory=dict)
     scenarios: list[dict[str, Any]] = field(default_factory=list)
     calibration: list[dict[str, Any]] = field(default_factory=list)
+    uncertainty: dict[str, Any] | None = None
 
     def __getitem__(self, section: str) -> dict[str, Any]:
         """Return the settings of one section."""
@@ -374,10 +375,10 @@ def validate(raw: dict[str, Any], path: Path) -> Study:
         key, or an inconsistent combination (a steady condition and a record file together).
     """
     for name, table in raw.items():
-        if name in ARRAY_TABLES:
+        if name in ARRAY_TABLES or name in OPTIONAL_TABLES:
             continue
         if name not in SCHEMA:
-            raise _unknown(path, name, [*SCHEMA, *ARRAY_TABLES], None)
+            raise _unknown(path, name, [*SCHEMA, *OPTIONAL_TABLES, *ARRAY_TABLES], None)
         if not isinstance(table, dict):
             raise StudyError(f"{path.name}: [{name}] must be a table of keys, not a value")
     settings = {
@@ -412,12 +413,16 @@ def validate(raw: dict[str, Any], path: Path) -> Study:
         )
     scenarios = _validate_scenarios(path, raw.get("scenario", []), settings)
     calibration = _validate_calibration(path, raw.get("calibration", []))
+    uncertainty = None
+    if "uncertainty" in raw:
+        uncertainty = _validate_uncertainty(path, raw["uncertainty"], settings)
     return Study(
         path=path.resolve(),
         raw=raw,
         settings=settings,
         scenarios=scenarios,
         calibration=calibration,
+        uncertainty=uncertainty,
     )
 
 
@@ -524,6 +529,160 @@ CALIBRATION_KEYS: dict[str, Key] = {
 
 #: Sections written as arrays of tables (``[[name]]``).
 ARRAY_TABLES = ("scenario", "calibration")
+
+#: Sections that change nothing when absent (not in :data:`SCHEMA`, so that a study without
+#: them records exactly the settings it recorded before they existed).
+OPTIONAL_TABLES = ("uncertainty",)
+
+
+@dataclass(frozen=True)
+class UncertainInput:
+    """One uncertain input of ``[uncertainty]``: its distribution and the range of its values.
+
+    ``distribution`` is ``"uniform"`` (keys ``low``, ``high``, each checked by ``check``) or
+    ``"normal"`` (key ``sd``, at most ``max_sd``; the mean is ``mean``). ``doc`` says what the
+    input does to the chain.
+    """
+
+    distribution: str
+    check: Callable[[Any], str | None] | None = None
+    mean: float = 0.0
+    max_sd: float = 0.0
+    doc: str = ""
+
+
+#: The inputs ``[uncertainty]`` can make uncertain. An input left out is held at the study's
+#: value. The largest standard deviations are our choice: beyond them a normal draw of the
+#: 500 a study typically takes reaches a wave height near zero (3.3 sd of 0.25 below 1) or
+#: turns the waves past the shore's normal by more than any bias a hindcast carries.
+UNCERTAIN_INPUTS: dict[str, UncertainInput] = {
+    "cerc_k": UncertainInput("uniform", _bounded("cerc_k"), doc="CERC coefficient (Hs form)"),
+    "kamphuis_coefficient": UncertainInput(
+        "uniform", _bounded("kamphuis_coefficient"), doc="Kamphuis leading coefficient"
+    ),
+    "breaker_index": UncertainInput("uniform", _breaker_index, doc="breaker index Hb/db"),
+    "d50_mm": UncertainInput("uniform", _bounded("d50_mm"), doc="median grain size [mm]"),
+    "porosity": UncertainInput("uniform", _bounded("porosity"), doc="porosity of the deposit"),
+    "closure_depth_m": UncertainInput("uniform", _bounded("closure_depth_m"), doc="closure depth"),
+    "berm_height_m": UncertainInput("uniform", _bounded("berm_height_m"), doc="berm height"),
+    "direction_bias_deg": UncertainInput(
+        "normal", mean=0.0, max_sd=20.0, doc="added to every offshore direction [deg]"
+    ),
+    "hs_factor": UncertainInput(
+        "normal", mean=1.0, max_sd=0.25, doc="multiplies every offshore Hs"
+    ),
+}
+
+#: The other keys of ``[uncertainty]``, with their defaults.
+UNCERTAINTY_KEYS: dict[str, Key] = {
+    "members": Key("int", 500, doc="ensemble size; 0 = off"),
+    "seed": Key("int", 0, doc="seed of the random draws"),
+    "formulas": Key(
+        "str",
+        "primary",
+        check=_one_of("primary", "all"),
+        doc='"all": each member draws one of [model] formulas with equal weight',
+    ),
+    "record_blocks": Key(
+        "str",
+        "none",
+        check=_one_of("none", "year", "month"),
+        doc="resample the record in blocks with replacement",
+    ),
+}
+
+#: Most members a run takes (memory: a few arrays of transects x members x 8 bytes).
+MAX_MEMBERS = 20000
+
+
+def _validate_uncertainty(
+    path: Path, table: Any, settings: dict[str, dict[str, Any]]
+) -> dict[str, Any] | None:
+    """Check ``[uncertainty]``; return its settings, or None when ``members = 0`` (off).
+
+    The result holds ``members``, ``seed``, ``formulas``, ``record_blocks`` and ``inputs``:
+    name -> ``{"distribution": "uniform", "low", "high"}`` or ``{"distribution": "normal",
+    "mean", "sd"}`` for every input given (the others are held at the study's values).
+    """
+    if not isinstance(table, dict):
+        raise StudyError(f"{path.name}: [uncertainty] must be a table of keys, not a value")
+    valid = [*UNCERTAINTY_KEYS, *UNCERTAIN_INPUTS]
+    for key in table:
+        if key not in valid:
+            raise _unknown(path, key, valid, "uncertainty")
+    plain = {k: v for k, v in table.items() if k in UNCERTAINTY_KEYS}
+    values = _validate_table(path, "uncertainty", plain, UNCERTAINTY_KEYS)
+    where = f"{path.name}: [uncertainty]"
+    if not 0 <= values["members"] <= MAX_MEMBERS:
+        raise StudyError(
+            f"{where} members = {values['members']}: expected a whole number from 0 (off) to "
+            f"{MAX_MEMBERS}"
+        )
+    if values["seed"] < 0:
+        raise StudyError(f"{where} seed = {values['seed']}: expected a whole number >= 0")
+    if values["record_blocks"] != "none" and settings["waves"]["file"] is None:
+        raise StudyError(
+            f'{where} record_blocks = "{values["record_blocks"]}" needs a wave record '
+            '([waves] file) to resample; use "none" with a steady condition'
+        )
+    step = settings["model"]["angle_step_deg"]
+    if values["members"] and not (step > 0 and abs(1.0 / step - round(1.0 / step)) < 1e-9):
+        raise StudyError(
+            f"{where} needs [model] angle_step_deg = {step!r} to divide one degree (0.5, 0.25, "
+            "0.2, 0.1, ...): members read tables over normal nodes and turn the waves by whole "
+            "degrees"
+        )
+    inputs: dict[str, dict[str, Any]] = {}
+    for name, spec in UNCERTAIN_INPUTS.items():
+        if name in table:
+            inputs[name] = _distribution(path, name, spec, table[name])
+    if values["members"] == 0:
+        return None
+    return {**values, "inputs": inputs}
+
+
+def _distribution(path: Path, name: str, spec: UncertainInput, value: Any) -> dict[str, Any]:
+    """Check one uncertain input's inline table: ``{ low, high }`` or ``{ sd }``."""
+    where = f"{path.name}: [uncertainty] {name}"
+    keys = ("low", "high") if spec.distribution == "uniform" else ("sd",)
+    form = "{ low = ..., high = ... }" if spec.distribution == "uniform" else "{ sd = ... }"
+    if not isinstance(value, dict):
+        raise StudyError(
+            f"{where} = {value!r}: expected an inline table {form} ({spec.distribution})"
+        )
+    for key in value:
+        if key not in keys:
+            close = difflib.get_close_matches(key, keys, n=1)
+            hint = f" (did you mean {close[0]!r}?)" if close else ""
+            raise StudyError(
+                f"{where}: unknown key {key!r}{hint}; a {spec.distribution} input takes {form}"
+            )
+    missing = [k for k in keys if k not in value]
+    if missing:
+        raise StudyError(f"{where}: missing {', '.join(missing)}; expected {form}")
+    numbers = {}
+    for key in keys:
+        v = value[key]
+        if not isinstance(v, (int, float)) or isinstance(v, bool) or not math.isfinite(v):
+            raise StudyError(f"{where}.{key} = {v!r}: expected a finite number")
+        numbers[key] = float(v)
+    if spec.distribution == "uniform":
+        for key in keys:
+            expected = spec.check(numbers[key])
+            if expected:
+                raise StudyError(f"{where}.{key} = {numbers[key]!r}: expected {expected}")
+        if numbers["low"] > numbers["high"]:
+            raise StudyError(
+                f"{where}: low = {numbers['low']!r} is above high = {numbers['high']!r}; "
+                "expected low <= high"
+            )
+        return {"distribution": "uniform", **numbers}
+    if not 0 <= numbers["sd"] <= spec.max_sd:
+        raise StudyError(
+            f"{where}.sd = {numbers['sd']!r}: expected a standard deviation >= 0 and <= "
+            f"{spec.max_sd:g} (our choice: see docs/study-file.md)"
+        )
+    return {"distribution": "normal", "mean": spec.mean, "sd": numbers["sd"]}
 
 
 def _validate_calibration(path: Path, tables: Any) -> list[dict[str, Any]]:

@@ -286,6 +286,7 @@ def summary_text(result, out: Path) -> str:
                 f"mean {h.mean_rate_m_per_yr:+7.2f} {unit}  "
                 f"peak {h.peak_rate_m_per_yr:+7.2f} {unit}"
             )
+        lines += ensemble_lines(scenario, shown)
         n_e = sum(h.klass == "erosion" for h in scenario.hotspots)
         n_a = sum(h.klass == "accretion" for h in scenario.hotspots)
         vs = scenario.info.get("versus_reference", {})
@@ -316,6 +317,42 @@ def summary_text(result, out: Path) -> str:
         if p.is_file() and not any(part.startswith(".") for part in p.relative_to(out).parts):
             lines.append(f"  {p.relative_to(out)}")
     return "\n".join(lines)
+
+
+def ensemble_lines(scenario, shown: list, width: int = 96) -> list[str]:
+    """A few console lines on a scenario's ensemble ([] without one).
+
+    How sure each listed hotspot is (the share of members in which at least half of its
+    stretch keeps its class, and its likelihood word) and the input whose first-order index of
+    the hotspot's mean rate is largest.
+    """
+    import textwrap
+
+    ens = getattr(scenario, "ensemble", None)
+    if ens is None:
+        return []
+    n_in = len(ens.factors)
+    lines = [
+        f"[{scenario.name}] ensemble of {len(ens.members)} members over {n_in} uncertain "
+        f"input{'s' if n_in != 1 else ''}"
+        + (
+            "; each hotspot: likelihood (share of members, input spreading it most):"
+            if shown
+            else "; no hotspot to rate"
+        )
+    ]
+    by_id = {h["hotspot_id"]: h for h in ens.hotspots}
+    parts = []
+    for h in shown:
+        e = by_id[h.hotspot_id]
+        label = f"{'E' if h.klass == 'erosion' else 'A'}{h.hotspot_id}"
+        main = f", {e['main_input']}" if e["main_input"] else ""
+        parts.append(f"{label} {e['likelihood']} ({e['probability']:.2f}{main})")
+    if parts:
+        lines += textwrap.wrap(
+            ", ".join(parts), width, initial_indent="    ", subsequent_indent="    "
+        )
+    return lines
 
 
 def _waves_text(scenario) -> str:

@@ -304,6 +304,7 @@ def hotspot_frame(result: RunResult, scenario: ScenarioResult) -> gpd.GeoDataFra
         | {c: "float64" for c in HOTSPOT_COLUMNS[3:]}
     )
     frame[list(HOTSPOT_COLUMNS[3:])] += 0.0  # no negative zero
+    frame = ensemble_hotspot_columns(frame, scenario)
     if is_event(scenario):  # a storm event: hotspots of shoreline shift
         frame = frame.rename(columns=EVENT_HOTSPOT_NAMES)
     return gpd.GeoDataFrame(frame, geometry=gpd.GeoSeries(geoms, crs=result.transects.working_crs))
@@ -562,7 +563,7 @@ def scenario_summary(result: RunResult, scenario: ScenarioResult) -> dict[str, A
         "event": event,
         "info": scenario.info,
         "caution": CAUTION,
-    }
+    } | ensemble_summary(scenario)
 
 
 def run_record(result: RunResult, command: list[str], started_utc: str) -> dict[str, Any]:
@@ -591,7 +592,7 @@ def run_record(result: RunResult, command: list[str], started_utc: str) -> dict[
         "calibration": result.calibration,
         "scenarios": [s.name for s in result.scenarios],
         "caution": CAUTION,
-    }
+    } | ensemble_record(result)
 
 
 def utc_now() -> str:
@@ -664,3 +665,107 @@ def write_transects_only(
 
     publish(build, out_dir, command, notes)
     return paths
+
+
+# --------------------------------------------------------------------------------------------
+# The ensemble of [uncertainty] (shoreline/ensemble.py): what every writer adds for it
+# --------------------------------------------------------------------------------------------
+
+#: Hotspot columns added by an ensemble, in order.
+ENSEMBLE_HOTSPOT_COLUMNS = ("probability", "likelihood", "main_input", "main_input_s1")
+
+
+def ensemble_hotspot_columns(frame: pd.DataFrame, scenario: ScenarioResult) -> pd.DataFrame:
+    """Add each hotspot's probability, its likelihood word and the input that spreads it most.
+
+    ``probability``: the share of members in which at least half of the hotspot's stretch is
+    in its class; ``main_input`` and ``main_input_s1``: the input with the largest first-order
+    index of the hotspot's mean rate (shift) and that index. Unchanged without an ensemble.
+    """
+    ens = scenario.ensemble
+    if ens is None:
+        return frame
+    by_id = {h["hotspot_id"]: h for h in ens.hotspots}
+    rows = [by_id[i] for i in frame["hotspot_id"].tolist()]
+    frame = frame.copy()
+    frame["probability"] = np.array([r["probability"] for r in rows], dtype=float)
+    frame["likelihood"] = pd.Series([r["likelihood"] for r in rows], dtype="str")
+    frame["main_input"] = pd.Series([r["main_input"] or "" for r in rows], dtype="str")
+    frame["main_input_s1"] = np.array(
+        [
+            r["first_order"].get(r["main_input"], np.nan) if r["main_input"] else np.nan
+            for r in rows
+        ],
+        dtype=float,
+    )
+    return frame
+
+
+def ensemble_summary(scenario: ScenarioResult) -> dict[str, Any]:
+    """The ``ensemble`` member of a scenario's summary.json ({} without an ensemble).
+
+    Members, factors, per hotspot (and for the coast's mean net transport) the probability,
+    its likelihood word and the first-order and total indices, the transects by likelihood
+    word, and the check against the run at the study's own settings. No times: a re-run with
+    the same seed writes the same file.
+    """
+    ens = scenario.ensemble
+    if ens is None:
+        return {}
+    words, counts = np.unique(np.asarray(ens.columns["confidence"]), return_counts=True)
+    info = {k: v for k, v in ens.info.items() if not k.startswith("seconds")}
+    return {
+        "ensemble": {
+            "members": len(ens.members),
+            "factors": ens.factors,
+            "metric": "shoreline_shift_m" if ens.event else "rate_m_per_yr",
+            "hotspots": ens.hotspots,
+            "coast_net_transport": ens.coast,
+            "transects_by_confidence": dict(zip(words.tolist(), counts.tolist(), strict=True)),
+            "info": info,
+            "meaning": ENSEMBLE_MEANING,
+        }
+    }
+
+
+#: What the ensemble's probabilities are, in plain words (summary.json, README, report).
+ENSEMBLE_MEANING = (
+    "Probabilities are shares of ensemble members: runs of the same screening model with the "
+    "uncertain inputs listed in [uncertainty] drawn from their ranges. They cover those inputs "
+    "only, not the simplifications of the model itself (one-line balance, the transport "
+    "formulas, no cross-shore or sediment supply), which the caution describes: a 'very likely "
+    "erosion' is very likely within this model, not a measured certainty."
+)
+
+
+def ensemble_record(result: RunResult) -> dict[str, Any]:
+    """The ``uncertainty`` member of run.json ({} without ``[uncertainty]``).
+
+    The seed, the member count, every distribution as used (and the inputs held at the
+    study's values), the formula and block settings, and per scenario how its ensemble was
+    computed: enough to re-run it bit-identically.
+    """
+    u = result.study.uncertainty
+    if not u:
+        return {}
+    from shoreline.ensemble import BIAS_STEP_DEG
+    from shoreline.study import UNCERTAIN_INPUTS
+
+    return {
+        "uncertainty": {
+            "members": u["members"],
+            "seed": u["seed"],
+            "distributions": u["inputs"],
+            "held_at_study_values": [k for k in UNCERTAIN_INPUTS if k not in u["inputs"]],
+            "formulas": u["formulas"],
+            "record_blocks": u["record_blocks"],
+            "direction_bias_step_deg": BIAS_STEP_DEG,
+            "random_generator": "numpy default_rng (PCG64), entropy [seed, stream, input]",
+            "quantiles": "numpy quantile, linear interpolation (Hyndman & Fan 1996 type 7)",
+            "sensitivity": "first order Saltelli et al. (2010) Table 2 (b), total Jansen "
+            "(1999), pick-freeze design: the members as A, as many draws again as B",
+            "scenarios": {
+                s.name: s.ensemble.info for s in result.scenarios if s.ensemble is not None
+            },
+        }
+    }

@@ -395,8 +395,9 @@ def write_figures(
     Returns
     -------
     list of pathlib.Path
-        The files written: ``map.png``, ``alongshore.png``, ``wave_climate.png`` and, with a
-        reference, ``vs_reference.png``. Each is written atomically (temporary file, then rename).
+        The files written: ``map.png``, ``alongshore.png``, ``wave_climate.png``, with an
+        ensemble (``[uncertainty]``) ``sensitivity.png``, and, with a reference,
+        ``vs_reference.png``. Each is written atomically (temporary file, then rename).
 
     Raises
     ------
@@ -411,6 +412,8 @@ def write_figures(
         _save(_alongshore_figure(data), folder / "alongshore.png", dpi),
         _save(_wave_rose_figure(data, waves), folder / "wave_climate.png", dpi),
     ]
+    if _has_sensitivity(data):
+        written.append(_save(_sensitivity_figure(data), folder / "sensitivity.png", dpi))
     if reference_dir is not None and Path(reference_dir).resolve() != folder.resolve():
         base = read_scenario(reference_dir)
         written.append(_save(_vs_reference_figure(data, base), folder / "vs_reference.png", dpi))
@@ -666,7 +669,7 @@ def _map_figure(data: ScenarioData):
         direction = np.broadcast_to(np.asarray(direction, dtype=float), (2,))
         length = float(np.hypot(*direction))
         direction = direction / length if length > 0 else np.array([0.0, 1.0])
-        label_pos.append((hotspot_label(hid, hclass), hclass, mid.x, mid.y, direction))
+        label_pos.append((_map_label(hot, hid, hclass), hclass, mid.x, mid.y, direction))
 
     if live.any():
         ax.add_collection(LineCollection(segs[live], colors="black", linewidths=3.8, zorder=2))
@@ -826,6 +829,7 @@ def _map_figure(data: ScenarioData):
         handles.append(
             Line2D([], [], color=_EXCLUDED_GREY, lw=1.0, label="left out: not open coast")
         )
+    handles += _ensemble_map_handles(data)
     n_hot = len(data.hotspots)
     if n_hot > len(labelled):
         handles.append(
@@ -1153,6 +1157,7 @@ def _alongshore_figure(data: ScenarioData):
         for j, (x, q) in enumerate(_part_lines(tr, layout, column)):
             ax_q.plot(x, q / 1000.0, label=label if j == 0 else None, **style)
     ax_q.axhline(0.0, color="0.4", lw=0.8, zorder=0.6)
+    _ensemble_bands(ax_q, ax_r, data, layout)
     if _transport_suffix(data) == "_m3":  # a storm event: the volume carried over the storm
         unit = "Net longshore transport over the storm\n[10\u00b3 m\u00b3]"
     elif scenario_metric(data).event:  # an event folder written with yearly names
@@ -1380,5 +1385,179 @@ def _vs_reference_figure(data: ScenarioData, base: ScenarioData):
     _part_axis(axes, layout)
     what = "against the reference" if same else "with the reference\u2019s yearly rate above"
     fig.suptitle(f"{metric.title} \u2014 scenario \u201c{data.name}\u201d {what}", fontsize=11)
+    _footer(fig)
+    return fig
+
+
+# --------------------------------------------------------------------------------------------
+# The ensemble of [uncertainty] (shoreline/ensemble.py): bands, hotspot probabilities and the
+# sensitivity chart, drawn only where the files carry them
+# --------------------------------------------------------------------------------------------
+
+_BAND_GREY = "0.78"
+
+
+def _ensemble_bands(ax_q, ax_r, data: ScenarioData, layout) -> None:
+    """Shade the members' p05-p95 band and draw their median, in both panels (if present).
+
+    The band is plain light grey and the median a dashed dark line, so in grey print they stay
+    apart from the deterministic line (solid black) and the hotspot hatching.
+    """
+    tr = data.transects
+    metric = scenario_metric(data)
+    stem = "shift" if metric.event else "rate"
+    unit = "_m" if metric.event else "_m_per_yr"
+    suffix = _transport_suffix(data)
+    panels = (
+        (ax_q, f"q_p05{suffix}", f"q_p50{suffix}", f"q_p95{suffix}", 1000.0, "net transport"),
+        (ax_r, f"{stem}_p05{unit}", f"{stem}_p50{unit}", f"{stem}_p95{unit}", 1.0, stem),
+    )
+    for ax, lo, mid, hi, scale, what in panels:
+        if not all(c in tr.columns for c in (lo, mid, hi)):
+            continue
+        parts = zip(
+            _part_lines(tr, layout, lo),
+            _part_lines(tr, layout, mid),
+            _part_lines(tr, layout, hi),
+            strict=True,
+        )
+        for j, ((x, a), (_, m), (_, b)) in enumerate(parts):
+            ax.fill_between(
+                x,
+                a / scale,
+                b / scale,
+                color=_BAND_GREY,
+                lw=0,
+                zorder=0.4,
+                label=f"ensemble p05\u2013p95 of the {what}" if j == 0 else None,
+            )
+            ax.plot(
+                x,
+                m / scale,
+                color="0.3",
+                lw=1.1,
+                ls=(0, (4, 2)),
+                zorder=2.5,
+                label=f"ensemble median of the {what}" if j == 0 else None,
+            )
+
+
+def _hotspot_probability(hot) -> float | None:
+    """A hotspot row's ensemble probability, or None where the layer has none."""
+    try:
+        p = float(hot.get("probability"))
+    except (TypeError, ValueError):
+        return None
+    return p if np.isfinite(p) else None
+
+
+def _map_label(hot, hid: int, hclass: str) -> str:
+    """The map label of a hotspot: ``E1``, and with an ensemble its probability (``E1 97 %``)."""
+    p = _hotspot_probability(hot)
+    text = hotspot_label(hid, hclass)
+    return text if p is None else f"{text} {percent_text(p)}"
+
+
+def percent_text(p: float) -> str:
+    """A share as a percentage that never rounds to certainty it does not have.
+
+    Examples
+    --------
+    >>> [percent_text(p) for p in (1.0, 0.998, 0.5, 0.004, 0.0)]
+    ['100\u2009%', '>99\u2009%', '50\u2009%', '<1\u2009%', '0\u2009%']
+    """
+    if 0.99 < p < 1.0:
+        return ">99\u2009%"
+    if 0.0 < p < 0.01:
+        return "<1\u2009%"
+    return f"{p * 100:.0f}\u2009%"
+
+
+def _ensemble_map_handles(data: ScenarioData) -> list:
+    """The legend entry that says what a hotspot label's percentage is (ensembles only)."""
+    from matplotlib.lines import Line2D
+
+    hot = data.hotspots
+    if len(hot) == 0 or "probability" not in hot.columns:
+        return []
+    return [
+        Line2D(
+            [],
+            [],
+            ls="",
+            label="E1 97 %: share of members keeping the class",
+        )
+    ]
+
+
+def _has_sensitivity(data: ScenarioData) -> bool:
+    ens = data.summary.get("ensemble")
+    return isinstance(ens, dict) and bool(ens.get("factors"))
+
+
+#: Rows of the sensitivity chart: the coast, then the strongest hotspots.
+SENSITIVITY_HOTSPOTS = 10
+
+
+def _sensitivity_figure(data: ScenarioData):
+    """First-order indices of every uncertain input, per hotspot and for the coast.
+
+    A grid (rows: the coast's mean net transport, then the strongest hotspots' mean rate or
+    shift; columns: the inputs) shaded light to dark by the index and with the index written
+    in each cell, so that it reads in grey print; the largest of each row is boxed.
+    """
+    from matplotlib.patches import Rectangle
+
+    ens = data.summary["ensemble"]
+    factors = [str(f) for f in ens["factors"]]
+    rows = [("coast: mean net transport", ens.get("coast_net_transport") or {})]
+    hot = [h for h in ens.get("hotspots", []) if isinstance(h, dict)]
+    strongest = _strongest_ids(data.hotspots, SENSITIVITY_HOTSPOTS)
+    metric = scenario_metric(data)
+    what = "mean shift" if metric.event else "mean rate"
+    for h in hot:
+        if strongest and int(h.get("hotspot_id", -1)) not in strongest:
+            continue
+        label = hotspot_label(h.get("hotspot_id", 0), h.get("class", ""))
+        p = h.get("probability")
+        share = f", p = {float(p):.2f}" if isinstance(p, (int, float)) else ""
+        rows.append((f"{label}: {what}{share}", h))
+    values = np.array(
+        [[float((r.get("first_order") or {}).get(f, np.nan)) for f in factors] for _, r in rows]
+    )
+    shown = np.clip(np.nan_to_num(values, nan=0.0), 0.0, 1.0)
+    height = 1.6 + 0.42 * len(rows)
+    width = max(6.5, 2.6 + 0.95 * len(factors))
+    fig = _new_figure(width, height)
+    ax = fig.add_subplot()
+    ax.imshow(shown, cmap="Greys", vmin=0.0, vmax=1.25, aspect="auto")
+    for i in range(len(rows)):
+        best = int(np.nanargmax(values[i])) if np.isfinite(values[i]).any() else -1
+        for j in range(len(factors)):
+            v = values[i, j]
+            text = "\u2013" if not np.isfinite(v) else f"{max(v, 0.0):.2f}"
+            ax.text(
+                j,
+                i,
+                text,
+                ha="center",
+                va="center",
+                fontsize=8.5,
+                color="white" if shown[i, j] > 0.55 else "black",
+                fontweight="bold" if j == best else "normal",
+            )
+            if j == best:
+                ax.add_patch(
+                    Rectangle((j - 0.48, i - 0.46), 0.96, 0.92, fill=False, ec="black", lw=1.6)
+                )
+    ax.set_xticks(range(len(factors)), [f.replace("_", " ") for f in factors], fontsize=8)
+    ax.set_yticks(range(len(rows)), [r[0] for r in rows], fontsize=8)
+    ax.tick_params(axis="x", labelrotation=30)
+    ax.set_title(
+        f"First-order sensitivity indices (share of the variance) \u2014 scenario "
+        f"\u201c{data.name}\u201d",
+        fontsize=10.5,
+    )
+    ax.set_xlabel("uncertain input (largest index of each row boxed)", fontsize=8.5)
     _footer(fig)
     return fig

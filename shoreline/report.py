@@ -637,6 +637,7 @@ def _render_scenario(data: ScenarioData, reference: ScenarioData | None = None) 
         "<h4>Hotspots</h4>",
         _hotspot_table(data),
         _structure_table(data),
+        _ensemble_section(data),
         "<h4>Figures</h4>",
     ]
     for name in _FIGURE_ORDER:
@@ -656,7 +657,8 @@ def _render_scenario(data: ScenarioData, reference: ScenarioData | None = None) 
         alt = FIGURE_CAPTIONS[name].split(".")[0]
         parts.append(
             f'<figure><img src="data:image/png;base64,{payload}" alt="{_esc(alt)} \u2014 '
-            f'scenario {_esc(data.name)}"><figcaption>{FIGURE_CAPTIONS[name]}</figcaption>'
+            f'scenario {_esc(data.name)}"><figcaption>{FIGURE_CAPTIONS[name]}'
+            f"{_ensemble_caption(data, name)}</figcaption>"
             "</figure>"
         )
     parts.append("</section>")
@@ -749,6 +751,7 @@ def _render(run: dict, scenarios: list[ScenarioData], missing: list[str]) -> str
             f"<nav><strong>Contents</strong><ol>{nav}</ol></nav></header><main>",
             _render_study(run),
             _render_method(),
+            _render_ensemble_method(run),
             "".join(results),
             _render_warnings(run),
             "</main>",
@@ -774,3 +777,154 @@ def _write_atomic(path: Path, text: str) -> Path:
         if os.path.exists(tmp):
             os.unlink(tmp)
     return path
+
+
+# --------------------------------------------------------------------------------------------
+# The ensemble of [uncertainty] (shoreline/ensemble.py): drawn only where the files carry it
+# --------------------------------------------------------------------------------------------
+
+ENSEMBLE_REFERENCES = (
+    "Mastrandrea, M.D., et al. (2010). Guidance Note for Lead Authors of the IPCC Fifth "
+    "Assessment Report on Consistent Treatment of Uncertainties. Intergovernmental Panel on "
+    "Climate Change (the likelihood scale, Table 1).",
+    "Sobol\u2019, I.M. (2001). Global sensitivity indices for nonlinear mathematical models and "
+    "their Monte Carlo estimates. Mathematics and Computers in Simulation 55: 271\u2013280.",
+    "Saltelli, A., Annoni, P., Azzini, I., Campolongo, F., Ratto, M., Tarantola, S. (2010). "
+    "Variance based sensitivity analysis of model output. Design and estimator for the total "
+    "sensitivity index. Computer Physics Communications 181: 259\u2013270.",
+    "Efron, B., Tibshirani, R.J. (1993). An Introduction to the Bootstrap. Chapman & Hall.",
+)
+
+_ENSEMBLE_CAPTION = (
+    "Sensitivity. For the coast\u2019s mean net transport and each hotspot\u2019s mean rate "
+    "(storm: mean shift), the first-order index of each uncertain input: the share of the "
+    "spread among the members that the input explains by itself (Sobol\u2019 2001; estimator "
+    "of Saltelli et al. 2010). Darker and larger means more; the largest of each row is boxed. "
+    "The indices of a row add up to less than one where inputs act together (a coefficient "
+    "times a wave height, say)."
+)
+
+
+def _ensemble_caption(data: ScenarioData, name: str) -> str:
+    """What an ensemble adds to a figure, for its caption ('' without one)."""
+    if not isinstance(data.summary.get("ensemble"), dict):
+        return ""
+    if name == "alongshore.png":
+        return (
+            " The grey band holds the middle 90 % of the ensemble members (5 % to 95 %) and "
+            "the dashed grey line is their median; the solid black line is the run at the "
+            "study\u2019s own settings."
+        )
+    if name == "map.png":
+        return (
+            " The percentage beside a hotspot label is the share of ensemble members in which "
+            "at least half of its stretch is in its class."
+        )
+    return ""
+
+
+def _render_ensemble_method(run: dict) -> str:
+    """The method of the ensemble, in plain words ('' for a run without [uncertainty])."""
+    u = run.get("uncertainty")
+    if not isinstance(u, dict):
+        return ""
+    dists = u.get("distributions") if isinstance(u.get("distributions"), dict) else {}
+    items = []
+    for name, d in dists.items():
+        if not isinstance(d, dict):
+            continue
+        if d.get("distribution") == "uniform":
+            items.append(
+                f"{_esc(name)} uniform {_num(d.get('low'), 3)}\u2013{_num(d.get('high'), 3)}"
+            )
+        else:
+            items.append(
+                f"{_esc(name)} normal, mean {_num(d.get('mean'), 2)}, sd {_num(d.get('sd'), 3)}"
+            )
+    held = ", ".join(_esc(h) for h in u.get("held_at_study_values", []) or []) or "none"
+    refs = "".join(f"<li>{_esc(r)}</li>" for r in ENSEMBLE_REFERENCES)
+    return (
+        '<section id="ensemble-method"><h2>2a. Uncertain inputs: the ensemble</h2>'
+        f"<p>Every scenario was also run {_esc(u.get('members'))} times (seed "
+        f"{_esc(u.get('seed'))}), each time with the uncertain inputs drawn at random from "
+        f"their ranges: {'; '.join(items) or 'none'}; formulas: "
+        f"{_esc(u.get('formulas'))}; the wave record resampled in blocks: "
+        f"{_esc(u.get('record_blocks'))}. Held at the study\u2019s values: {held}. The same "
+        "seed gives the same members, so a re-run gives the same numbers.</p>"
+        "<p><strong>What the probabilities mean.</strong> A transect\u2019s p_erosion is the "
+        "share of these runs in which it erodes faster than the stable band; a hotspot\u2019s "
+        "probability is the share of runs in which at least half of its stretch is in its class. "
+        "The words follow the likelihood scale of the IPCC (Mastrandrea et al. 2010): virtually "
+        "certain 99\u2013100 %, very likely 90\u2013100 %, likely 66\u2013100 %, about as "
+        "likely as not 33\u201366 %, unlikely 0\u201333 %, very unlikely 0\u201310 %. The band "
+        "in the along-shore figure holds the middle 90 % of the runs (5 % to 95 %).</p>"
+        "<p><strong>What they do not mean.</strong> They cover only the inputs listed above. "
+        "They say nothing about the simplifications of the model itself, which every run shares: "
+        "the one-line balance, the transport formulas, waves carried over straight parallel "
+        "depth contours, no cross-shore storm erosion or sediment supply. \u201cVery likely "
+        "erosion\u201d means very likely within this screening model, not a measured "
+        "certainty; the caution above applies in full.</p>"
+        f'<h3>References (ensemble)</h3><ol class="refs">{refs}</ol></section>'
+    )
+
+
+def _ensemble_section(data: ScenarioData) -> str:
+    """How sure each hotspot is and what spreads it, with the sensitivity chart ('' if none)."""
+    ens = data.summary.get("ensemble")
+    if not isinstance(ens, dict):
+        return ""
+    metric = scenario_metric(data)
+    counts = (
+        ens.get("transects_by_confidence")
+        if isinstance(ens.get("transects_by_confidence"), dict)
+        else {}
+    )
+    count_text = ", ".join(f"{_esc(v)} {_esc(k)}" for k, v in sorted(counts.items()))
+    parts = [
+        "<h4>How sure: the ensemble</h4>",
+        f"<p>{_esc(ens.get('members'))} members. Transects by likelihood: "
+        f"{count_text or 'none'}. Each transect also carries the 5 %, 50 % and 95 % "
+        f"quantiles of its {'shift' if metric.event else 'rate'} and net transport "
+        "(columns <code>*_p05_*</code>, <code>*_p50_*</code>, <code>*_p95_*</code>), and "
+        "<code>p_erosion</code>, <code>p_accretion</code>, <code>confidence</code>.</p>",
+    ]
+    hot = [h for h in ens.get("hotspots", []) if isinstance(h, dict)]
+    if hot:
+        head = (
+            "<thead><tr><th>Hotspot</th><th>Class</th>"
+            '<th class="num">Probability</th><th>Likelihood</th>'
+            "<th>Input spreading it most</th>"
+            '<th class="num">First-order index</th></tr></thead>'
+        )
+        rows = []
+        for h in hot:
+            main = h.get("main_input")
+            first = (h.get("first_order") or {}).get(main)
+            se = (h.get("first_order_se") or {}).get(main)
+            index = f"{_num(first, 2)} \u00b1 {_num(se, 2)}" if first is not None else "\u2013"
+            rows.append(
+                f"<tr><td><strong>{_esc(hotspot_label(h.get('hotspot_id', 0), h.get('class')))}"
+                f"</strong></td><td>{_esc(h.get('class', ''))}</td>"
+                f'<td class="num">{_num(h.get("probability"), 3)}</td>'
+                f"<td>{_esc(h.get('likelihood', ''))} {_esc(h.get('class', ''))}</td>"
+                f"<td>{_esc((main or 'none').replace('_', ' '))}</td>"
+                f'<td class="num">{index}</td></tr>'
+            )
+        parts.append(
+            "<p>Probability: the share of members in which at least half of the hotspot\u2019s "
+            "stretch is in its class. The index (\u00b1 its standard error by resampling the "
+            "members) is the share of the spread of the hotspot\u2019s mean "
+            f"{'shift' if metric.event else 'rate'} that the input explains by itself.</p>"
+            f'<table class="ensemble">{head}<tbody>{"".join(rows)}</tbody></table>'
+        )
+    path = data.folder / "sensitivity.png"
+    if path.is_file():
+        try:
+            payload = base64.b64encode(path.read_bytes()).decode("ascii")
+        except OSError as exc:
+            raise OutputError(f"{path}: cannot be read ({exc})") from exc
+        parts.append(
+            f'<figure><img src="data:image/png;base64,{payload}" alt="Sensitivity \u2014 '
+            f'scenario {_esc(data.name)}"><figcaption>{_ENSEMBLE_CAPTION}</figcaption></figure>'
+        )
+    return "".join(parts)

@@ -245,7 +245,7 @@ def draw(study: Study, n: int | None = None, stream: int = _MEMBER_STREAM, first
 
 
 def record_blocks(
-    climate: WaveClimate, kind: str, where: str = "the record"
+    climate: WaveClimate, kind: str, where: str = "the record", study_name: str = ""
 ) -> tuple[np.ndarray, np.ndarray] | None:
     """Blocks of a record for resampling: ``(block of each step, label of each block)``.
 
@@ -263,8 +263,8 @@ def record_blocks(
     total_days = float(climate.duration_s.sum()) / 86400.0
     if kind == "year" and total_days < 730.0:
         raise StudyError(
-            f'[uncertainty] record_blocks = "year" needs a record of at least two years to '
-            f'resample; {where} covers {total_days:.0f} days: use "month" or "none"'
+            f'{study_name}[uncertainty] record_blocks = "year" needs a record of at least two '
+            f'years to resample; {where} covers {total_days:.0f} days: use "month" or "none"'
         )
     unit = "Y" if kind == "year" else "M"
     stamp = np.asarray(climate.time).astype(f"datetime64[{unit}]").astype(np.int64)
@@ -283,7 +283,8 @@ def record_blocks(
         block = np.searchsorted(np.flatnonzero(keep), block)
     if labels.size < 2:
         raise StudyError(
-            f'[uncertainty] record_blocks = "{kind}": {where} holds one {kind} only; '
+            f'{study_name}[uncertainty] record_blocks = "{kind}": {where} holds one {kind} '
+            "only; "
             'resampling needs at least two blocks: use a shorter block or "none"'
         )
     text = np.datetime_as_string(labels.astype(f"datetime64[{unit}]"))
@@ -1060,36 +1061,38 @@ def run_ensemble(
     else:
         point_of = np.asarray(point_index)
     where = "the reference record" if result.name == "reference" else f"{result.name!r}'s record"
-    blocks = record_blocks(climate, u["record_blocks"], where)
+    blocks = record_blocks(climate, u["record_blocks"], where, f"{study.path.name}: ")
     factors = _factors(study, blocks)
     cols, d = _design(study, factors)
     m_members = u["members"]
     values = _column_values(study, cols)
     formulas = ensemble_formulas(study)
 
-    # the shapes: what the transport sums depend on beyond exact multipliers
-    key = cols.record_key if blocks is not None else np.zeros(len(cols), np.int64)
+    # the shapes: what the transport sums depend on beyond exact multipliers (two resamples
+    # that draw every block as often are one shape)
+    n_blocks = 1 if blocks is None else blocks[1].size
+    col_weights = (
+        np.ones((len(cols), 1))
+        if blocks is None
+        else block_weights(u["seed"], cols.record_key, n_blocks)
+    )
     shape_rows = np.column_stack(
         [
             cols.formula.astype(float),
             values["direction_bias_deg"],
             values["hs_factor"],
             values["breaker_index"],
-            key.astype(float),
+            col_weights,
         ]
     )
     shapes, shape_of = np.unique(shape_rows, axis=0, return_inverse=True)
     shape_of = shape_of.reshape(-1)
-    # and the study's own settings, once per formula (the check against the run: key -1 is the
-    # record as it is)
+    # and the study's own settings, once per formula, with the record as it is (the check
+    # against the run)
     gamma0 = float(study["model"]["breaker_index"])
-    nominal = np.array([[i, 0.0, 1.0, gamma0, -1.0] for i in range(len(formulas))])
+    nominal = np.array([[i, 0.0, 1.0, gamma0] + [1.0] * n_blocks for i in range(len(formulas))])
     shapes = np.vstack([shapes, nominal])
-    n_blocks = 1 if blocks is None else blocks[1].size
-    weights = np.ones((shapes.shape[0], n_blocks))
-    if blocks is not None:
-        drawn = shapes[:, 4] >= 0
-        weights[drawn] = block_weights(u["seed"], shapes[drawn, 4].astype(np.int64), n_blocks)
+    weights = shapes[:, 4:]
     m, s = study["model"], study["sediment"]
     has_structures = structures is not None and len(structures) > 0
     chain = _Chain(

@@ -328,6 +328,8 @@ def ensemble_lines(scenario, shown: list, width: int = 96) -> list[str]:
     """
     import textwrap
 
+    from shoreline.figures import percent_text
+
     ens = getattr(scenario, "ensemble", None)
     if ens is None:
         return []
@@ -347,7 +349,8 @@ def ensemble_lines(scenario, shown: list, width: int = 96) -> list[str]:
         e = by_id[h.hotspot_id]
         label = f"{'E' if h.klass == 'erosion' else 'A'}{h.hotspot_id}"
         main = f", {e['main_input']}" if e["main_input"] else ""
-        parts.append(f"{label} {e['likelihood']} ({e['probability']:.2f}{main})")
+        share = percent_text(e["probability"]).replace("\u2009", " ")
+        parts.append(f"{label} {e['likelihood']} ({share}{main})")
     if parts:
         lines += textwrap.wrap(
             ", ".join(parts), width, initial_indent="    ", subsequent_indent="    "

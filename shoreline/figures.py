@@ -1400,8 +1400,10 @@ _BAND_GREY = "0.78"
 def _ensemble_bands(ax_q, ax_r, data: ScenarioData, layout) -> None:
     """Shade the members' p05-p95 band and draw their median, in both panels (if present).
 
-    The band is plain light grey and the median a dashed dark line, so in grey print they stay
-    apart from the deterministic line (solid black) and the hotspot hatching.
+    The band is a translucent grey with dotted dark edges (the hatching of the hotspots shows
+    through, and the edges keep it apart from the stable band's plain grey) and the median a
+    dashed dark line, so in grey print they stay apart from the deterministic line (solid
+    black).
     """
     tr = data.transects
     metric = scenario_metric(data)
@@ -1426,8 +1428,11 @@ def _ensemble_bands(ax_q, ax_r, data: ScenarioData, layout) -> None:
                 x,
                 a / scale,
                 b / scale,
-                color=_BAND_GREY,
-                lw=0,
+                facecolor=_BAND_GREY,
+                alpha=0.6,
+                edgecolor="0.35",
+                linestyle=(0, (1, 1.5)),
+                lw=0.9,
                 zorder=0.4,
                 label=f"ensemble p05\u2013p95 of the {what}" if j == 0 else None,
             )

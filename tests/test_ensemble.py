@@ -353,7 +353,9 @@ def test_first_order_indices_of_the_ishigami_function():
     first, total = E.sobol_first_total(f(a)[None], f(b)[None], np.stack([f(x)[None] for x in ab]))
     np.testing.assert_allclose(first[0], [0.3139, 0.4424, 0.0], atol=0.03)
     np.testing.assert_allclose(total[0], [0.5576, 0.4424, 0.2437], atol=0.03)
-    # an independent implementation of the same estimators gives the same numbers
+    # an independent implementation of the same estimators gives the same numbers (scipy >= 1.11)
+    if not hasattr(stats, "sobol_indices"):
+        pytest.skip("scipy.stats.sobol_indices needs scipy 1.11")
     ref = stats.sobol_indices(
         func={"f_A": f(a)[None], "f_B": f(b)[None], "f_AB": np.stack([f(x)[None] for x in ab])},
         n=n,

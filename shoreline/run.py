@@ -22,7 +22,7 @@ from typing import Any
 import numpy as np
 import shapely
 
-from shoreline import calibrate, profile, transport, waves, wind
+from shoreline import calibrate, profile, projection, transport, waves, wind
 from shoreline.budget import (
     Hotspot,
     classify,
@@ -348,6 +348,7 @@ class ScenarioResult:
     closure_depth_m: np.ndarray
     info: dict[str, Any] = field(default_factory=dict)
     trapping: Trapping | None = None
+    projection: projection.Projection | None = None
 
 
 @dataclass
@@ -979,6 +980,19 @@ def run_study(
     )
     timings["reference"] = time.perf_counter() - t0
     warnings = list(coast.warnings) + list(transects.warnings) + list(climate.warnings)
+    ahead = projection.Setting(  # the forward projection ([projection]), per climate
+        coast,
+        transects,
+        sign,
+        point_index,
+        exposure,
+        structures,
+        np.isin(shore, LEFT_OUT),
+        shore == "non_erodible",
+        coefficients,
+        budget_scale_m(transects),
+    )
+    warnings += projection.attach(reference, study, ahead, climate, progress)
     if fitted is not None:
         warnings += fitted.warnings
     results = [reference]
@@ -1005,6 +1019,7 @@ def run_study(
         )
         result.columns |= info.pop("columns", {})
         result.info |= {"scenario": info}
+        warnings += projection.attach(result, study, ahead, sc_climate, progress)
         result.info["versus_reference"] = compare_with_reference(
             result, reference, study["classify"]["stable_band_m_per_yr"]
         )

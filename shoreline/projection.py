@@ -1044,13 +1044,19 @@ def integrate(
         q_out[slot] = np.where(ex, np.nan, sign * factor * (law.net0 + env - law.env0))
         by_out[slot] = bypass
 
+    def place(y: np.ndarray, until: float) -> np.ndarray:
+        """Add the nourishments due by ``until`` (a fill at an output time is in it)."""
+        for k, fill in enumerate(fills):
+            if not placed[k] and fill["year"] <= until + 1e-9:
+                y = y + fill["dy"]
+                placed[k] = True
+        return y
+
+    y = place(y, 0.0)
     record(0, y, bypass)
     slot = 1
     for b, t0, dt in zip(blocks, starts, lengths, strict=True):
-        for k, fill in enumerate(fills):
-            if not placed[k] and fill["year"] <= t0 + 1e-9:
-                y = y + fill["dy"]
-                placed[k] = True
+        y = place(y, t0)
         law = _law(prep, int(b), shift)
         face_turn, own_turn = turning(y, grid)
         max_turn = max(max_turn, float(np.max(np.abs(face_turn), initial=0.0)))
@@ -1110,12 +1116,9 @@ def integrate(
             progress(1)
         end = t0 + dt
         while slot < out_years.size and end >= out_years[slot] - 1e-9:
+            y = place(y, out_years[slot])
             record(slot, y, bypass)
             slot += 1
-    for k, fill in enumerate(fills):  # a fill at the horizon itself
-        if not placed[k]:
-            y = y + fill["dy"]
-            shift_out[-1] = np.where(ex, np.nan, y)
     return Trajectory(
         years=out_years,
         shift_m=shift_out,

@@ -76,6 +76,7 @@ __all__ = [
     "attach",
     "bruun_retreat_m",
     "hanson_bypass",
+    "initial_rate_m_per_yr",
     "integrate",
     "prepare",
     "project",
@@ -934,6 +935,149 @@ def _with_bypass(grid: _Grid, bypass: np.ndarray) -> _Grid:
     return replace(grid, own_right=own_right, own_left=own_left, struct_b=b)
 
 
+class _Model:
+    """One member's right-hand side: the turning of the shore, the transport, the budget."""
+
+    def __init__(self, prep: Prepared, member: Member):
+        if abs(member.dir_shift_deg) > prep.max_dir_shift_deg + 1e-9:
+            raise ValueError(
+                f"dir_shift_deg {member.dir_shift_deg} exceeds the {prep.max_dir_shift_deg} deg "
+                "the climate was prepared for (prepare(..., max_dir_shift_deg=...))"
+            )
+        study, setting = prep.study, prep.setting
+        t = setting.transects
+        self.prep, self.setting, self.t = prep, setting, t
+        self.n = n = len(t)
+        self.d50 = study["sediment"]["d50_mm"]
+        dc = prep.closure_depth_m if member.closure_depth_m is None else member.closure_depth_m
+        self.dc = np.broadcast_to(np.asarray(dc, dtype=float), (n,))
+        berm = study["model"]["berm_height_m"]
+        self.berm = berm if member.berm_height_m is None else member.berm_height_m
+        self.height = self.dc + self.berm
+        self.ex = np.asarray(setting.excluded, bool)
+        self.hard = np.asarray(setting.hard, bool)
+        self.sign = np.where(np.asarray(setting.sign, dtype=float) < 0, -1.0, 1.0)
+        self.st = setting.structures
+        self.n_struct = 0 if self.st is None else len(self.st)
+        fixed = np.zeros(0) if self.st is None else np.asarray(self.st.bypass, dtype=float)
+        if member.bypass is not None and self.n_struct:
+            fixed = np.full(self.n_struct, float(member.bypass))
+        self.fixed = fixed
+        self.factor = float(member.coefficient_factor)
+        self.shift = float(member.dir_shift_deg)
+        self.step_deg = prep.step_deg
+        self.dx = np.asarray(t.spacing_m, dtype=float)
+        self.x0, self.y0 = np.asarray(t.x_m, dtype=float), np.asarray(t.y_m, dtype=float)
+        self.ux, self.uy = prep.unit_x, prep.unit_y
+
+    def turning(self, y: np.ndarray, grid: _Grid) -> tuple[np.ndarray, np.ndarray]:
+        """Turning of the shore since the start at each right face and each transect [deg].
+
+        A face's turning is that of the line joining its two transects' shore points; a
+        transect's, the mean of its inner faces' (one-sided at an open end and beside a
+        structure: the shore does not turn across a structure).
+        """
+        x0, y0 = self.x0, self.y0
+        px, py = x0 + y * self.ux, y0 + y * self.uy
+        j = np.where(grid.inner, grid.nxt, 0)
+        d0x, d0y = x0[j] - x0, y0[j] - y0
+        dx_, dy_ = px[j] - px, py[j] - py
+        cross = d0x * dy_ - d0y * dx_
+        dot = d0x * dx_ + d0y * dy_
+        face = np.where(grid.inner, -np.degrees(np.arctan2(cross, dot)), 0.0)
+        left_inner = np.zeros(self.n, bool)
+        left_inner[grid.nxt[grid.inner]] = True
+        left = np.zeros(self.n)
+        left[grid.nxt[grid.inner]] = face[grid.inner]
+        count = grid.inner.astype(float) + left_inner
+        with np.errstate(invalid="ignore", divide="ignore"):
+            own = np.where(count > 0, (face + left) / count, 0.0)
+        return face, own
+
+    def net_transport(self, y: np.ndarray, grid: _Grid, law: _Law) -> np.ndarray:
+        """Net transport of each transect on the shore ``y`` [m3/yr], + toward chainage."""
+        _, own = self.turning(y, grid)
+        env, _ = _read(law.envelope, law.f0 + own / self.step_deg)
+        return np.where(self.ex, np.nan, self.sign * self.factor * (law.net0 + env - law.env0))
+
+    def rhs(
+        self, law: _Law, y: np.ndarray, grid: _Grid, bypass: np.ndarray, block: int | None
+    ) -> dict[str, Any]:
+        """The rate of change of the shoreline [m/yr] and its linearisation, at ``y``.
+
+        ``block`` is the interval whose active depths grow the bypass (None: hold ``bypass``).
+        Returns ``rate``, ``e_face`` and ``e_own`` (diffusivities of each face and of each
+        transect's own transport [m3/yr per radian]), ``face_turn``, ``bypass``, ``grid``.
+        """
+        sign, factor, step_deg = self.sign, self.factor, self.step_deg
+        face_turn, own_turn = self.turning(y, grid)
+        # the transect's own transport, turned by its own angle
+        pos_own = law.f0 + own_turn / step_deg
+        env_t, slope_t = _read(law.envelope, pos_own)
+        gross_t, _ = _read(law.gross, pos_own)
+        net0 = sign * factor * law.net0
+        gross0 = factor * law.gross0
+        net_t = net0 + sign * factor * (env_t - law.env0)
+        gross_t = np.maximum(factor * gross_t, np.abs(net_t))
+        pos0, neg0 = 0.5 * (gross0 + net0), 0.5 * (net0 - gross0)
+        pos_t, neg_t = 0.5 * (gross_t + net_t), 0.5 * (net_t - gross_t)
+        # each face: both transects' tables read at the face's turning, averaged
+        j = np.where(grid.inner, grid.nxt, 0)
+        env_i, slope_i = _read(law.envelope, law.f0 + face_turn / step_deg)
+        env_j, slope_j = _read(law.envelope, law.f0[j] + face_turn / step_deg, j)
+        face_change = np.where(
+            grid.inner,
+            0.5 * sign * factor * ((env_i - law.env0) + (env_j - law.env0[j])),
+            0.0,
+        )
+        # structures: the bypass grows as the updrift shoreline nears the tip (Hanson 1989)
+        if self.n_struct and block is not None:  # (below 1: the blocking faces stay)
+            bypass = _bypass(
+                self.prep, self.setting, grid, block, y, self.fixed, pos_t, neg_t, self.d50
+            )
+            grid = _with_bypass(grid, bypass)
+        t = self.t
+        fb = face_budget(
+            pos0,
+            neg0,
+            t.part_id,
+            self.dx,
+            t.part_closed,
+            sigma_m=self.setting.sigma_m,
+            excluded=self.ex,
+            hard=self.hard,
+            structure_face=None if self.st is None else self.st.face,
+            structure_bypass=bypass if self.n_struct else None,
+            pos_change=pos_t - pos0,
+            neg_change=neg_t - neg0,
+            face_change=face_change,
+        )
+        rate = np.where(self.ex, 0.0, -np.nan_to_num(fb.dqdx_m2_per_yr) / self.height)
+        per_rad = 180.0 / math.pi / step_deg * factor
+        return {
+            "rate": rate,
+            "e_face": np.where(grid.inner, -0.5 * (slope_i + slope_j) * per_rad, 0.0),
+            "e_own": -slope_t * per_rad,
+            "face_turn": face_turn,
+            "bypass": bypass,
+            "grid": grid,
+        }
+
+
+def initial_rate_m_per_yr(prep: Prepared, member: Member | None = None) -> np.ndarray:
+    """The projection's rate of shoreline change at the start, for the record's mean climate.
+
+    The shoreline of the start, the transport law of the whole record and the structures'
+    fixed bypass: the budget of the rate run (:func:`shoreline.run.evaluate`), so the two agree
+    at t = 0 (to the tables' node bound where the run evaluated some transects directly).
+    NaN at excluded transects.
+    """
+    model = _Model(prep, member or Member())
+    grid = _grid(model.setting, model.fixed)
+    out = model.rhs(_law(prep, -1, model.shift), np.zeros(model.n), grid, model.fixed, None)
+    return np.where(model.ex, np.nan, out["rate"])
+
+
 def integrate(
     prep: Prepared,
     member: Member | None = None,
@@ -962,32 +1106,16 @@ def integrate(
     Trajectory
     """
     member = member or Member()
-    if abs(member.dir_shift_deg) > prep.max_dir_shift_deg + 1e-9:
-        raise ValueError(
-            f"dir_shift_deg {member.dir_shift_deg} exceeds the {prep.max_dir_shift_deg} deg the "
-            "climate was prepared for (prepare(..., max_dir_shift_deg=...))"
-        )
+    model = _Model(prep, member)
     study, setting = prep.study, prep.setting
     p = study.projection
-    t = setting.transects
-    n = len(t)
+    n = model.n
     horizon = float(p["years"])
-    d50 = study["sediment"]["d50_mm"]
-    dc = prep.closure_depth_m if member.closure_depth_m is None else member.closure_depth_m
-    dc = np.broadcast_to(np.asarray(dc, dtype=float), (n,))
-    berm = study["model"]["berm_height_m"] if member.berm_height_m is None else member.berm_height_m
-    height = dc + berm
-    ex, hard = np.asarray(setting.excluded, bool), np.asarray(setting.hard, bool)
-    sign = np.where(np.asarray(setting.sign, dtype=float) < 0, -1.0, 1.0)
-    st = setting.structures
-    n_struct = 0 if st is None else len(st)
-    fixed = np.zeros(0) if st is None else np.asarray(st.bypass, dtype=float)
-    if member.bypass is not None and n_struct:
-        fixed = np.full(n_struct, float(member.bypass))
+    ex = model.ex
     # sources
-    bruun = np.where(ex | hard, 0.0, bruun_retreat_m(1.0, dc, berm, d50))
+    bruun = np.where(ex | model.hard, 0.0, bruun_retreat_m(1.0, model.dc, model.berm, model.d50))
     level = _sea_level(p["sea_level_rise"], member.sea_level_factor)
-    fills = _placements(study, setting, height) if nourish else []
+    fills = _placements(study, setting, model.height) if nourish else []
     # time
     seed = p["seed"] if member.seed is None else member.seed
     duration_yr = prep.block_s / _YEAR_S
@@ -995,53 +1123,21 @@ def integrate(
     out_years = np.arange(0.0, horizon + 0.5)
     cuts = list(out_years) + [f["year"] for f in fills]
     blocks, starts, lengths = step_plan(sequence, cuts, max_step_yr or MAX_STEP_YR)
-    factor = float(member.coefficient_factor)
-    shift = float(member.dir_shift_deg)
-    step_deg = prep.step_deg
-    dx = np.asarray(t.spacing_m, dtype=float)
-    x0, y0 = np.asarray(t.x_m, dtype=float), np.asarray(t.y_m, dtype=float)
-    ux, uy = prep.unit_x, prep.unit_y
-    sigma = setting.sigma_m
     y = np.zeros(n)
     shift_out = np.full((out_years.size, n), np.nan)
     q_out = np.full((out_years.size, n), np.nan)
-    by_out = np.full((out_years.size, n_struct), np.nan)
+    by_out = np.full((out_years.size, model.n_struct), np.nan)
     sea_out = np.array([level(v) for v in out_years])
     max_turn, held = 0.0, 0
     placed = [False] * len(fills)
-    bypass = fixed.copy()
+    bypass = model.fixed.copy()
     grid = _grid(setting, bypass)
+    mean_law = _law(prep, -1, model.shift)
     done = 0
-
-    def turning(y: np.ndarray, grid: _Grid) -> tuple[np.ndarray, np.ndarray]:
-        """Turning of the shore since the start at each right face and each transect [deg].
-
-        A face's turning is that of the line joining its two transects' shore points; a
-        transect's, the mean of its inner faces' (one-sided at an open end and beside a
-        structure: the shore does not turn across a structure).
-        """
-        px, py = x0 + y * ux, y0 + y * uy
-        j = np.where(grid.inner, grid.nxt, 0)
-        d0x, d0y = x0[j] - x0, y0[j] - y0
-        dx_, dy_ = px[j] - px, py[j] - py
-        cross = d0x * dy_ - d0y * dx_
-        dot = d0x * dx_ + d0y * dy_
-        face = np.where(grid.inner, -np.degrees(np.arctan2(cross, dot)), 0.0)
-        left_inner = np.zeros(n, bool)
-        left_inner[grid.nxt[grid.inner]] = True
-        left = np.zeros(n)
-        left[grid.nxt[grid.inner]] = face[grid.inner]
-        count = grid.inner.astype(float) + left_inner
-        with np.errstate(invalid="ignore", divide="ignore"):
-            own = np.where(count > 0, (face + left) / count, 0.0)
-        return face, own
 
     def record(slot: int, y: np.ndarray, bypass: np.ndarray) -> None:
         shift_out[slot] = np.where(ex, np.nan, y)
-        law = _law(prep, -1, shift)
-        _, own = turning(y, grid)
-        env, _ = _read(law.envelope, law.f0 + own / step_deg)
-        q_out[slot] = np.where(ex, np.nan, sign * factor * (law.net0 + env - law.env0))
+        q_out[slot] = model.net_transport(y, grid, mean_law)
         by_out[slot] = bypass
 
     def place(y: np.ndarray, until: float) -> np.ndarray:
@@ -1057,57 +1153,23 @@ def integrate(
     slot = 1
     for b, t0, dt in zip(blocks, starts, lengths, strict=True):
         y = place(y, t0)
-        law = _law(prep, int(b), shift)
-        face_turn, own_turn = turning(y, grid)
-        max_turn = max(max_turn, float(np.max(np.abs(face_turn), initial=0.0)))
-        # the transect's own transport, turned by its own angle
-        pos_own = law.f0 + own_turn / step_deg
-        env_t, slope_t = _read(law.envelope, pos_own)
-        gross_t, _ = _read(law.gross, pos_own)
-        net0 = sign * factor * law.net0
-        gross0 = factor * law.gross0
-        net_t = net0 + sign * factor * (env_t - law.env0)
-        gross_t = np.maximum(factor * gross_t, np.abs(net_t))
-        pos0, neg0 = 0.5 * (gross0 + net0), 0.5 * (net0 - gross0)
-        pos_t, neg_t = 0.5 * (gross_t + net_t), 0.5 * (net_t - gross_t)
-        # each face: both transects' tables read at the face's turning, averaged
-        j = np.where(grid.inner, grid.nxt, 0)
-        face_pos_i = law.f0 + face_turn / step_deg
-        face_pos_j = law.f0[j] + face_turn / step_deg
-        env_i, slope_i = _read(law.envelope, face_pos_i)
-        env_j, slope_j = _read(law.envelope, face_pos_j, j)
-        outside = (np.abs(face_turn) > MARGIN_DEG) & grid.inner
-        held += int(np.count_nonzero(outside))
-        face_change = np.where(
-            grid.inner,
-            0.5 * sign * factor * ((env_i - law.env0) + (env_j - law.env0[j])),
-            0.0,
+        law = _law(prep, int(b), model.shift)
+        out = model.rhs(law, y, grid, bypass, int(b))
+        bypass, grid, face_turn = out["bypass"], out["grid"], out["face_turn"]
+        turned = np.abs(face_turn[grid.inner])
+        max_turn = max(max_turn, float(np.max(turned, initial=0.0)))
+        held += int(np.count_nonzero(turned > MARGIN_DEG))
+        y = y + _implicit_step(
+            grid,
+            out["e_face"],
+            out["e_own"],
+            face_turn,
+            model.dx,
+            model.height,
+            ex,
+            dt * out["rate"],
+            dt,
         )
-        # structures: the bypass grows as the updrift shoreline nears the tip (Hanson 1989)
-        if n_struct:  # (capped below 1: the faces that block stay the same)
-            bypass = _bypass(prep, setting, grid, int(b), y, fixed, pos_t, neg_t, d50)
-            grid = _with_bypass(grid, bypass)
-        fb = face_budget(
-            pos0,
-            neg0,
-            t.part_id,
-            dx,
-            t.part_closed,
-            sigma_m=sigma,
-            excluded=ex,
-            hard=hard,
-            structure_face=None if st is None else st.face,
-            structure_bypass=bypass if n_struct else None,
-            pos_change=pos_t - pos0,
-            neg_change=neg_t - neg0,
-            face_change=face_change,
-        )
-        rate = np.where(ex, 0.0, -np.nan_to_num(fb.dqdx_m2_per_yr) / height)
-        # the linearisation: diffusivity of each face [m3/yr per radian of turning]
-        per_rad = 180.0 / math.pi / step_deg * factor
-        e_face = np.where(grid.inner, -0.5 * (slope_i + slope_j) * per_rad, 0.0)
-        e_own = -slope_t * per_rad
-        y = y + _implicit_step(grid, e_face, e_own, face_turn, dx, height, ex, dt * rate, dt)
         level_step = level(t0 + dt) - level(t0)
         if level_step:
             y = y - level_step * bruun

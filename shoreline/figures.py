@@ -1499,7 +1499,7 @@ def _projection_shift_figure(data: ScenarioData):
     fig.legend(
         handles=line_handles + handles,
         loc="outside lower center",
-        ncols=4,
+        ncols=3,
         fontsize=7.5,
         frameon=False,
     )

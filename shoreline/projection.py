@@ -768,7 +768,9 @@ class _Law:
     transport [m3/yr] (table convention: the sea on the right) on a window of nodes around
     the transect's normal; ``envelope`` the non-increasing envelope of ``net`` from the
     window's start (its steps ``min(step, 0)`` summed); ``f0`` the position of the initial
-    normal in the window [nodes]. ``net0``, ``gross0``, ``env0`` are the values there.
+    normal in the window [nodes]. ``net0``, ``gross0``, ``env0`` are the values there;
+    ``uphill`` marks the transects whose net transport grows as the shore turns toward the
+    waves at the start (there the envelope is flat: no diffusion).
     """
 
     gross: np.ndarray
@@ -777,6 +779,7 @@ class _Law:
     net0: np.ndarray
     gross0: np.ndarray
     env0: np.ndarray
+    uphill: np.ndarray
 
 
 def _law(prep: Prepared, block: int, dir_shift_deg: float) -> _Law:
@@ -828,13 +831,15 @@ def _law(prep: Prepared, block: int, dir_shift_deg: float) -> _Law:
     steps = np.diff(net, axis=1)
     envelope = np.zeros_like(net)
     np.cumsum(np.minimum(steps, 0.0), axis=1, out=envelope[:, 1:])
+    net0, net_slope = _read(net, f0)
     law = _Law(
         gross=gross,
         envelope=envelope,
         f0=f0,
-        net0=_read(net, f0)[0],
+        net0=net0,
         gross0=_read(gross, f0)[0],
         env0=_read(envelope, f0)[0],
+        uphill=net_slope > 0.0,
     )
     size = (gross.nbytes + envelope.nbytes) * 1
     if prep.cache_bytes + size <= CACHE_BYTES:
@@ -1384,6 +1389,27 @@ def project(
             f"[projection] the shore turned more than {MARGIN_DEG:g} deg from its initial "
             f"normal at {trajectory.held_faces} face-steps (largest {trajectory.max_turn_deg:.0f} "
             "deg): there the transport was held at its value for that turning"
+        )
+    live = ~(setting.excluded | setting.hard) & np.isfinite(t.normal_az_deg)
+    uphill = _law(prep, -1, 0.0).uphill & live
+    if uphill.sum() > 0.05 * max(int(live.sum()), 1):
+        warnings.append(
+            f"[projection] at {int(uphill.sum())} of {int(live.sum())} transects the record's "
+            "net transport grows as the shore turns toward the waves (waves far off the "
+            "normal): the one-line equation would be unstable there, and the projection holds "
+            "it (no diffusion), so the shore there follows its initial rate"
+        )
+    d50 = study["sediment"]["d50_mm"]
+    width = float(np.nanmedian(profile.surf_zone_width_m(prep.closure_depth_m, d50)))
+    final = trajectory.shift_m[-1]
+    far = np.abs(np.nan_to_num(final)) > width
+    if far.any():
+        k = int(np.nanargmax(np.abs(np.nan_to_num(final))))
+        warnings.append(
+            f"[projection] the shoreline moved farther than the width of the active profile "
+            f"({width:.0f} m) at {int(far.sum())} transects (largest {final[k]:+.0f} m at part "
+            f"{int(t.part_id[k])}, chainage {t.chainage_m[k] / 1000:.2f} km): far beyond what a "
+            "one-line screening can say; read such reaches as unstable, not as positions"
         )
     if prep.mode == "repeat" and climate.duration_s.sum() < WHOLE_YEAR_SHARE * _YEAR_S:
         warnings.append(

@@ -75,6 +75,7 @@ __all__ = [
     "Trajectory",
     "attach",
     "bruun_retreat_m",
+    "ensemble_columns",
     "hanson_bypass",
     "initial_rate_m_per_yr",
     "integrate",
@@ -367,6 +368,33 @@ def retreat_probability(shift_m: np.ndarray, setback_m: float) -> np.ndarray:
     shift = np.asarray(shift_m, dtype=float)
     beyond = (shift <= -float(setback_m)).mean(axis=0)
     return np.where(np.isnan(shift).any(axis=0), np.nan, beyond)
+
+
+def ensemble_columns(
+    trajectories: Sequence[Trajectory],
+    report_years: Sequence[int],
+    setback_m: float | None = None,
+    quantiles: Sequence[float] = (0.05, 0.5, 0.95),
+) -> dict[str, np.ndarray]:
+    """Per-transect columns of an ensemble of projections (one trajectory per member).
+
+    ``shift_<n>yr_q<pp>_m`` (the quantiles of the members' shifts at each report year, e.g.
+    ``shift_25yr_q05_m``) and, with ``setback_m``, ``p_retreat_<n>yr`` (the share of members
+    retreating beyond it: :func:`retreat_probability`). A proposal of names for the ensemble
+    (shoreline/ensemble.py) to adopt or rename.
+    """
+    stack = np.stack([t.shift_m for t in trajectories])  # (members, times, n)
+    out: dict[str, np.ndarray] = {}
+    for year in report_years:
+        shifts = stack[:, int(year)]
+        for q in quantiles:
+            with np.errstate(invalid="ignore"):
+                out[f"shift_{int(year)}yr_q{round(100 * q):02d}_m"] = np.nanquantile(
+                    shifts, q, axis=0
+                )
+        if setback_m is not None:
+            out[f"p_retreat_{int(year)}yr"] = retreat_probability(shifts, setback_m)
+    return out
 
 
 # --------------------------------------------------------------------------------------------

@@ -451,6 +451,21 @@ def test_retreat_probability_counts_members_beyond_the_setback():
     assert projection.retreat_probability(shift, 20.0).tolist() == [0.5]
 
 
+def test_ensemble_columns_give_the_share_of_members_beyond_the_setback(tmp_path):
+    # three members of a one-transect coast; the share beyond the setback is a count
+    # (definition), the median of three values the middle one
+    members = [
+        projection.Trajectory(
+            np.arange(3.0), np.array([[0.0], [s1], [s2]]), None, None, None, 0, 0.0, 0
+        )
+        for s1, s2 in ((-5.0, -30.0), (-1.0, -10.0), (-8.0, -21.0))
+    ]
+    cols = projection.ensemble_columns(members, [1, 2], setback_m=20.0)
+    assert cols["p_retreat_2yr"].tolist() == pytest.approx([2 / 3])
+    assert cols["p_retreat_1yr"].tolist() == [0.0]
+    assert cols["shift_2yr_q50_m"].tolist() == [-21.0]
+
+
 def test_bruun_rule_in_the_module_matches_the_published_form():
     a = profile.dean_a_parameter(0.3)
     assert projection.bruun_retreat_m(0.5, 8.0, 2.0, 0.3) == pytest.approx(

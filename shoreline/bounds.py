@@ -224,6 +224,41 @@ BOUNDS: dict[str, Bound] = {
     ),
 }
 
+# -- the forward projection ([projection], [[nourishment]]) ------------------------------------
+BOUNDS |= {
+    "sea_level_rise_m_per_yr": Bound(
+        -0.1,
+        0.1,
+        "m/yr",
+        "relative sea level changes by up to a few centimetres a year (subsiding deltas, "
+        "rising land after the ice ages); 0.1 m/yr is far beyond every scenario",
+        "from memory",
+        low_open=False,
+    ),
+    "sea_level_rise_m": Bound(
+        -5.0,
+        5.0,
+        "m",
+        "the highest sea-level scenarios reach about 2 m by 2100 and a few metres by 2300",
+        "from memory",
+        low_open=False,
+    ),
+    "volume_m3": Bound(
+        0.0,
+        1.0e8,
+        "m3",
+        "the largest single beach nourishments place some 20 million m3",
+        "from memory",
+    ),
+    "setback_m": Bound(
+        0.0,
+        10000.0,
+        "m",
+        "setback lines lie tens to hundreds of metres from the shore",
+        "our choice",
+    ),
+}
+
 #: The bounds on the longitude and latitude of coast vertices and wave points [deg]. 0-360
 #: longitudes are accepted as well as -180-180.
 LONGITUDE_DEG = (-180.0, 360.0)

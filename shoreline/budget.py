@@ -358,6 +358,10 @@ def face_budget(
     hard: np.ndarray | None = None,
     structure_face: np.ndarray | None = None,
     structure_bypass: np.ndarray | None = None,
+    *,
+    pos_change: np.ndarray | None = None,
+    neg_change: np.ndarray | None = None,
+    face_change: np.ndarray | None = None,
 ) -> FaceBudget:
     """Along-shore transport gradient from face fluxes, at a consistent scale.
 
@@ -386,6 +390,14 @@ def face_budget(
       limited to what arrives (the non-erodible boundary of one-line models, Hanson and
       Kraus 1986, from memory).
 
+    - **Changes added after the smoothing** (optional, not smoothed): ``pos_change`` and
+      ``neg_change`` are added to each transect's own transport toward increasing and
+      decreasing chainage, where a transect's own transport enters the budget (the open end of
+      a segment, beside a structure); ``face_change`` to the flux on each transect's right
+      face where that face lies between two transects of one segment. The forward projection
+      (:mod:`shoreline.projection`) gives here the response of the transport to the
+      shoreline's own turning, resolved at the transect spacing; without them nothing changes.
+
     ``sum(dQ/dx x width)`` over a segment equals its end fluxes' difference exactly.
 
     ``q_pos`` and ``q_neg`` of shape (n, m) are m transport fields (ensemble members) on the
@@ -402,20 +414,9 @@ def face_budget(
     faces = np.zeros(0, int) if structure_face is None else np.asarray(structure_face, int)
     bypass = np.zeros(0) if structure_bypass is None else np.asarray(structure_bypass, float)
 
-    # next transect across each transect's right face (-1: none)
-    nxt = np.arange(1, n + 1)
-    for a, b in part_slices(part_id):
-        nxt[b - 1] = a if ring[a] and b - a > 1 else -1
+    lay = face_layout(part_id, ring, ex, faces[bypass < 1.0])
+    nxt, prev, cut, cut_left, seg = lay.nxt, lay.prev, lay.cut, lay.cut_left, lay.segment
     has_next = nxt >= 0
-    cut = ~has_next.copy()  # a cut on the right face of i
-    cut[has_next] |= ex[has_next] | ex[nxt[has_next]]
-    blocking = faces[bypass < 1.0]
-    cut[blocking] = True
-    # segment ids: a new segment after every cut; a ring without a cut at its wrap face joins
-    seg = np.concatenate([[0], np.cumsum(cut[:-1])]) if n else np.zeros(0, int)
-    for a, b in part_slices(part_id):
-        if ring[a] and not cut[b - 1]:
-            seg[a:b][seg[a:b] == seg[b - 1]] = seg[a]
     ps, ns, dps, dns = smooth_along_shore(
         [q_pos, q_neg], part_id, dx, ring, sigma_m, seg, slopes=True
     )
@@ -427,14 +428,16 @@ def face_budget(
     j = np.where(has_next, nxt, 0)
     inner = has_next & ~cut
     right[inner] = 0.5 * (qs[inner] + qs[j[inner]])
+    if face_change is not None:
+        right[inner] += np.asarray(face_change, dtype=float)[inner]
+    if pos_change is not None or neg_change is not None:  # a transect's own transport
+        ps = ps + (0.0 if pos_change is None else np.asarray(pos_change, dtype=float))
+        ns = ns + (0.0 if neg_change is None else np.asarray(neg_change, dtype=float))
+        qs = ps + ns
     # open segment ends: the end transect's own transport, half a cell
     right[cut] = qs[cut]
     width[cut] *= 0.5
-    prev = np.full(n, -1)
-    prev[nxt[has_next]] = np.flatnonzero(has_next)
     has_prev = prev >= 0
-    cut_left = ~has_prev.copy()
-    cut_left[has_prev] = cut[prev[has_prev]]
     left[has_prev & ~cut_left] = right[prev[has_prev & ~cut_left]]
     left[cut_left] = qs[cut_left]
     width[cut_left] *= 0.5
@@ -464,6 +467,66 @@ def face_budget(
         dqdx = (right - left) / width.reshape((n,) + (1,) * len(trail))
     dqdx[ex] = np.nan
     return FaceBudget(dqdx, qs, arriving, passing, arriving - passing)
+
+
+@dataclass(frozen=True)
+class FaceLayout:
+    """How the cells of the face budget join: neighbours across each face, cuts, segments.
+
+    ``nxt[i]`` is the transect across the right face of ``i`` (-1: none), ``prev[i]`` the one
+    across its left face; ``cut[i]`` marks a cut on the right face of ``i`` (the end of an
+    open part, an excluded neighbour, a blocking structure), ``cut_left[i]`` one on its left
+    face; ``segment`` numbers the runs of transects between cuts (a ring without a cut is one
+    segment).
+    """
+
+    nxt: np.ndarray
+    prev: np.ndarray
+    cut: np.ndarray
+    cut_left: np.ndarray
+    segment: np.ndarray
+
+
+def face_layout(
+    part_id: np.ndarray,
+    closed: np.ndarray,
+    excluded: np.ndarray | None = None,
+    blocking_faces: np.ndarray | None = None,
+) -> FaceLayout:
+    """The faces and segments of :func:`face_budget` (see :class:`FaceLayout`).
+
+    ``blocking_faces`` are the faces (index of the transect before each) of structures that
+    let less than all the arriving transport pass.
+
+    Examples
+    --------
+    >>> lay = face_layout(np.zeros(4, int), np.zeros(4, bool), None, np.array([1]))
+    >>> lay.nxt.tolist(), lay.cut.tolist(), lay.segment.tolist()
+    ([1, 2, 3, -1], [False, True, False, True], [0, 0, 1, 1])
+    """
+    part_id = np.asarray(part_id)
+    n = part_id.size
+    ring = np.asarray(closed, dtype=bool)
+    ex = np.zeros(n, bool) if excluded is None else np.asarray(excluded, dtype=bool)
+    nxt = np.arange(1, n + 1)
+    for a, b in part_slices(part_id):
+        nxt[b - 1] = a if ring[a] and b - a > 1 else -1
+    has_next = nxt >= 0
+    cut = ~has_next.copy()  # a cut on the right face of i
+    cut[has_next] |= ex[has_next] | ex[nxt[has_next]]
+    if blocking_faces is not None:
+        cut[np.asarray(blocking_faces, dtype=int)] = True
+    # segment ids: a new segment after every cut; a ring without a cut at its wrap face joins
+    seg = np.concatenate([[0], np.cumsum(cut[:-1])]) if n else np.zeros(0, int)
+    for a, b in part_slices(part_id):
+        if ring[a] and not cut[b - 1]:
+            seg[a:b][seg[a:b] == seg[b - 1]] = seg[a]
+    prev = np.full(n, -1)
+    prev[nxt[has_next]] = np.flatnonzero(has_next)
+    has_prev = prev >= 0
+    cut_left = ~has_prev.copy()
+    cut_left[has_prev] = cut[prev[has_prev]]
+    return FaceLayout(nxt, prev, cut, cut_left, seg)
 
 
 def _limit_hard(hard, left, right, nxt, prev) -> None:

@@ -392,6 +392,13 @@ def write_readme(path: Path, scenario: ScenarioResult, settings: dict[str, Any])
         "wave_climate.csv  hours of offshore waves by 10-degree direction sector and height class",
         "",
     ]
+    if scenario.projection is not None:
+        lines += [
+            "projection/       the forward projection: shorelines.geojson (one line per report",
+            "                  year and shore part), positions.nc (CF netCDF: shift and transport",
+            "                  per year and transect), figures; transects.csv has shift_<n>yr_m",
+            "",
+        ]
     if is_event(scenario):
         duration_h = scenario.info["event_duration_h"]
         lines += [
@@ -449,6 +456,8 @@ def write_scenario(folder: Path, result: RunResult, scenario: ScenarioResult) ->
         frame.to_file(gpkg, layer=name, driver="GPKG", engine="pyogrio", **kind)
     write_about(gpkg, settings)
     written.append(gpkg)
+    if scenario.projection is not None:
+        written += write_projection(folder, result, scenario, settings)
     csv_path = folder / "transects.csv"
     origin = gpd.GeoSeries(
         shapely.points(result.transects.x_m, result.transects.y_m),
@@ -562,8 +571,303 @@ def scenario_summary(result: RunResult, scenario: ScenarioResult) -> dict[str, A
         "waves": waves_info,
         "event": event,
         "info": scenario.info,
+        **({} if scenario.projection is None else {"projection": projection_summary(scenario)}),
         "caution": CAUTION,
     } | ensemble_summary(scenario)
+
+
+# --------------------------------------------------------------------------------------------
+# The forward projection (shoreline/projection.py): OUT/<scenario>/projection/
+# --------------------------------------------------------------------------------------------
+
+#: Folder of a scenario's projection outputs.
+PROJECTION_FOLDER = "projection"
+
+#: Layer of the projected shorelines in the scenario's GeoPackage.
+PROJECTION_LAYER = "projected_shorelines"
+
+
+def projection_settings(scenario: ScenarioResult, settings: dict[str, Any]) -> dict[str, Any]:
+    """The settings of a projection output: the scenario's and the projection's."""
+    return settings | {
+        "projection": scenario.projection.settings,
+        "units": "SI; shift positive seaward (accretion), negative landward; years after the "
+        "start of the projection (years of 365.25 days)",
+    }
+
+
+def projection_summary(scenario: ScenarioResult) -> dict[str, Any]:
+    """The ``projection`` member of summary.json (see docs/outputs.md)."""
+    proj = scenario.projection
+    traj = proj.trajectory
+    per_year = {}
+    for year in proj.report_years:
+        shift = traj.shift_m[year]
+        ok = np.isfinite(shift)
+        worst = int(np.nanargmin(np.where(ok, shift, np.inf))) if ok.any() else 0
+        per_year[str(year)] = {
+            "shift_min_m": float(np.nanmin(shift)) if ok.any() else None,
+            "shift_max_m": float(np.nanmax(shift)) if ok.any() else None,
+            "shift_mean_m": float(np.nanmean(shift)) if ok.any() else None,
+            "largest_retreat_transect_id": int(scenario.columns["transect_id"][worst]),
+            "largest_retreat_chainage_m": float(scenario.columns["chainage_m"][worst]),
+            "sea_level_rise_m": float(traj.sea_level_m[year]),
+            "bruun_retreat_mean_m": float(np.nanmean(proj.bruun_retreat_m[year])),
+        }
+        if traj.bypass.shape[1]:
+            per_year[str(year)]["structure_bypass"] = traj.bypass[year].tolist()
+    out = {
+        "settings": proj.settings,
+        "report_years": proj.report_years,
+        "years": per_year,
+        "nourishments": proj.nourishments,
+        "warnings": proj.warnings,
+    }
+    if proj.setback is not None:
+        out["setback"] = proj.setback
+    return out
+
+
+def projection_frame(result: RunResult, scenario: ScenarioResult) -> gpd.GeoDataFrame:
+    """The projected shorelines: one feature per report year and shore part (working CRS)."""
+    from shoreline.projection import shore_lines
+
+    excluded = np.isin(scenario.columns["shore_type"], ("enclosed", "data_edge", "excluded"))
+    rows = shore_lines(scenario.projection, result.transects, excluded)
+    start = scenario.projection.settings.get("start_year")
+    geoms = []
+    for row in rows:
+        lines = [shapely.linestrings(xy) for xy in row["lines"]]
+        if not lines:
+            geoms.append(None)
+        elif len(lines) == 1:
+            geoms.append(lines[0])
+        else:
+            geoms.append(shapely.multilinestrings(lines))
+    columns: dict[str, Any] = {
+        "year": np.array([r["year"] for r in rows], dtype="int64"),
+        "part_id": np.array([r["part_id"] for r in rows], dtype="int64"),
+    }
+    if start is not None:
+        columns["calendar_year"] = columns["year"] + int(start)
+    columns["caution"] = [CAUTION] * len(rows)
+    frame = gpd.GeoDataFrame(columns, geometry=geoms, crs=result.transects.working_crs)
+    return frame[frame.geometry.notna()].reset_index(drop=True)
+
+
+def write_projection(
+    folder: Path, result: RunResult, scenario: ScenarioResult, settings: dict[str, Any]
+) -> list[Path]:
+    """Write a scenario's projection: shorelines.geojson, positions.nc, a GeoPackage layer.
+
+    ``folder`` is the scenario folder (its ``results.gpkg`` already written): the files go in
+    ``folder/projection/`` and the layer :data:`PROJECTION_LAYER` into ``results.gpkg``.
+    """
+    out = folder / PROJECTION_FOLDER
+    out.mkdir(parents=True, exist_ok=True)
+    meta = projection_settings(scenario, settings)
+    frame = projection_frame(result, scenario)
+    path = out / "shorelines.geojson"
+    write_geojson(path, frame, {"name": "shorelines", "caution": CAUTION, "settings": meta})
+    kind = {"geometry_type": "MultiLineString"} if frame.empty else {}
+    frame.to_file(
+        folder / "results.gpkg", layer=PROJECTION_LAYER, driver="GPKG", engine="pyogrio", **kind
+    )
+    nc = out / "positions.nc"
+    write_positions_netcdf(nc, result, scenario, meta)
+    return [path, nc]
+
+
+def _nc_text(value: Any) -> Any:
+    """A text attribute as UTF-8 bytes (netCDF-3 text is bytes); other values unchanged."""
+    return value.encode("utf-8") if isinstance(value, str) else value
+
+
+#: The fill value of the netCDF variables (netCDF's default for doubles, CF ``_FillValue``).
+NC_FILL = 9.969209968386869e36
+
+
+def write_positions_netcdf(
+    path: Path, result: RunResult, scenario: ScenarioResult, settings: dict[str, Any]
+) -> None:
+    """Write ``positions.nc``: the projection per year and transect, CF-1.8, netCDF-3 classic.
+
+    Dimensions ``time`` (every whole year from 0 to the horizon, so every report year) and
+    ``transect`` (and ``structure`` with structures). Written with :mod:`scipy.io` (no
+    further dependency); any CF reader (xarray with no options) reads it.
+    """
+    from scipy.io import netcdf_file
+
+    proj = scenario.projection
+    traj = proj.trajectory
+    t = result.transects
+    n = len(t)
+    start = proj.settings.get("start_year")
+    lonlat = gpd.GeoSeries(shapely.points(t.x_m, t.y_m), crs=t.working_crs).to_crs(4326)
+    tmp = path.with_name(f".{path.name}.tmp")
+    with netcdf_file(tmp, "w", version=1) as nc:
+        nc.Conventions = "CF-1.8"
+        nc.title = _nc_text(f"shoreline projection, scenario {scenario.name}")
+        nc.source = _nc_text(settings.get("tool", "shoreline"))
+        nc.caution = _nc_text(CAUTION)
+        nc.settings = json.dumps(_jsonable(settings))
+        nc.history = _nc_text(f"{utc_now()} written by {settings.get('tool', 'shoreline')}")
+        nc.createDimension("time", traj.years.size)
+        nc.createDimension("transect", n)
+
+        def var(name, kind, dims, values, **attrs):
+            v = nc.createVariable(name, kind, dims)
+            data = np.asarray(values, dtype=float if kind == "d" else None)
+            if kind == "d":
+                data = np.where(np.isfinite(data), data, NC_FILL)
+                v._FillValue = NC_FILL
+            v[:] = data
+            for key, value in attrs.items():
+                setattr(v, key, _nc_text(value))
+            return v
+
+        time_attrs = {"standard_name": "time", "long_name": "time of the projection", "axis": "T"}
+        if start is not None:
+            time_attrs |= {
+                "units": f"days since {int(start):04d}-01-01 00:00:00",
+                "calendar": "proleptic_gregorian",
+            }
+        else:
+            time_attrs |= {
+                "units": "days",
+                "comment": "days after the start ([projection] start_year not given)",
+            }
+        var("time", "d", ("time",), traj.years * 365.25, **time_attrs)
+        var(
+            "years_after_start",
+            "d",
+            ("time",),
+            traj.years,
+            long_name="years after the start of the projection",
+            units="1",
+            comment="years of 365.25 days",
+        )
+        var("transect", "i", ("transect",), t.transect_id, long_name="transect id")
+        var("part_id", "i", ("transect",), t.part_id, long_name="shore part")
+        var(
+            "chainage_m",
+            "d",
+            ("transect",),
+            t.chainage_m,
+            units="m",
+            long_name="distance along the shore part, on the ground",
+        )
+        var(
+            "normal_az_deg",
+            "d",
+            ("transect",),
+            t.normal_az_deg,
+            units="degree",
+            long_name="seaward normal at the start, clockwise from true north",
+        )
+        var(
+            "lon",
+            "d",
+            ("transect",),
+            lonlat.x.to_numpy(),
+            units="degrees_east",
+            standard_name="longitude",
+            long_name="longitude of the transect's shore point",
+        )
+        var(
+            "lat",
+            "d",
+            ("transect",),
+            lonlat.y.to_numpy(),
+            units="degrees_north",
+            standard_name="latitude",
+            long_name="latitude of the transect's shore point",
+        )
+        crs = nc.createVariable("crs", "i", ())
+        crs.crs_wkt = _nc_text(t.working_crs.to_wkt())
+        crs.long_name = _nc_text(f"working CRS {crs_label(t.working_crs)}")
+        var(
+            "x",
+            "d",
+            ("transect",),
+            t.x_m,
+            units="m",
+            standard_name="projection_x_coordinate",
+            long_name="shore point at the start, working CRS",
+            grid_mapping="crs",
+        )
+        var(
+            "y",
+            "d",
+            ("transect",),
+            t.y_m,
+            units="m",
+            standard_name="projection_y_coordinate",
+            long_name="shore point at the start, working CRS",
+            grid_mapping="crs",
+        )
+        var(
+            "shoreline_shift_m",
+            "d",
+            ("time", "transect"),
+            traj.shift_m,
+            units="m",
+            long_name="shoreline shift since the start along the transect, seaward positive",
+            coordinates="lon lat",
+        )
+        var(
+            "q_net_m3_per_yr",
+            "d",
+            ("time", "transect"),
+            traj.q_net_m3_per_yr,
+            units="m3 yr-1",
+            long_name="net longshore transport of the primary formula on the shoreline of that "
+            "time, mean climate of the record, positive toward increasing chainage",
+            coordinates="lon lat",
+        )
+        var(
+            "bruun_retreat_m",
+            "d",
+            ("time", "transect"),
+            proj.bruun_retreat_m,
+            units="m",
+            long_name="shoreline shift by the Bruun rule alone (sea-level rise), seaward positive",
+            coordinates="lon lat",
+        )
+        var(
+            "sea_level_rise_m",
+            "d",
+            ("time",),
+            traj.sea_level_m,
+            units="m",
+            long_name="rise of the sea since the start",
+        )
+        if traj.bypass.shape[1]:
+            nc.createDimension("structure", traj.bypass.shape[1])
+            var(
+                "structure_chainage_m",
+                "d",
+                ("structure",),
+                result.structures.chainage_m,
+                units="m",
+                long_name="chainage of the structure's crossing",
+            )
+            var(
+                "structure_part_id",
+                "i",
+                ("structure",),
+                result.structures.part_id,
+                long_name="shore part the structure crosses",
+            )
+            var(
+                "structure_bypass",
+                "d",
+                ("time", "structure"),
+                traj.bypass,
+                units="1",
+                long_name="share of the arriving transport passing the structure",
+            )
+    tmp.replace(path)
 
 
 def run_record(result: RunResult, command: list[str], started_utc: str) -> dict[str, Any]:

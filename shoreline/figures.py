@@ -42,9 +42,14 @@ __all__ = [
     "scenario_metric",
     "true_north_offset_deg",
     "write_figures",
+    "write_projection_figures",
 ]
 
 FOOTER = "Screening estimate only: see the cautions in the report."
+#: The folder of a scenario's projection (figures included) and its shorelines layer.
+PROJECTION_FOLDER = "projection"
+PROJECTION_LAYER = "projected_shorelines"
+SHIFT_YEARS_LABEL = "Shoreline shift since the start [m] (+ seaward, \u2212 landward)"
 RATE_LABEL = "Shoreline change rate [m/yr] (+ accretion, \u2212 erosion)"
 SHIFT_LABEL = "Shoreline shift over the storm [m] (+ seaward, \u2212 landward)"
 
@@ -417,6 +422,8 @@ def write_figures(
     if reference_dir is not None and Path(reference_dir).resolve() != folder.resolve():
         base = read_scenario(reference_dir)
         written.append(_save(_vs_reference_figure(data, base), folder / "vs_reference.png", dpi))
+    if (folder / PROJECTION_FOLDER).is_dir() and "projection" in data.summary:
+        written += write_projection_figures(data, dpi)
     return written
 
 
@@ -1564,5 +1571,222 @@ def _sensitivity_figure(data: ScenarioData):
         fontsize=10.5,
     )
     ax.set_xlabel("uncertain input (largest index of each row boxed)", fontsize=8.5)
+    _footer(fig)
+    return fig
+
+
+# --------------------------------------------------------------------------------------------
+# The forward projection: shift along the shore, and the projected shorelines on a map
+# --------------------------------------------------------------------------------------------
+
+
+def projection_years(data: ScenarioData) -> list[tuple[int, str]]:
+    """The report years of a projection and their transect columns (``shift_<n>yr_m``).
+
+    Examples
+    --------
+    >>> import pandas as pd
+    >>> d = ScenarioData(Path("."), "x", {}, None, pd.DataFrame(columns=["shift_10yr_m",
+    ...     "shift_5yr_m", "rate_m_per_yr"]), None)
+    >>> projection_years(d)
+    [(5, 'shift_5yr_m'), (10, 'shift_10yr_m')]
+    """
+    import re
+
+    found = []
+    for column in data.transects.columns:
+        match = re.fullmatch(r"shift_(\d+)yr_m", str(column))
+        if match:
+            found.append((int(match.group(1)), str(column)))
+    return sorted(found)
+
+
+def _year_styles(count: int) -> list[dict]:
+    """Line styles of the report years: darker and more solid the later (reads in grey)."""
+    from matplotlib import colormaps
+
+    cmap = colormaps["viridis"]
+    dashes = [(0, (1, 1.5)), (0, (4, 2)), (0, (6, 2, 1, 2)), "-"]
+    out = []
+    for k in range(count):
+        frac = 0.85 - 0.85 * (k / max(count - 1, 1))
+        style = dashes[-1] if k == count - 1 else dashes[k % (len(dashes) - 1)]
+        out.append({"color": cmap(frac), "ls": style, "lw": 1.3 + 0.5 * k / max(count - 1, 1)})
+    return out
+
+
+def _year_label(year: int, start) -> str:
+    return f"year {year}" + (f" ({int(start) + year})" if start is not None else "")
+
+
+def write_projection_figures(data: ScenarioData, dpi: int = 150) -> list[Path]:
+    """Draw a scenario's projection figures into ``<scenario>/projection/``.
+
+    ``shift.png``: the shoreline shift along the shore for each report year; ``map.png``:
+    today's shoreline and the projected ones. Both from the scenario folder's files
+    (``transects`` columns ``shift_<n>yr_m``, ``summary.json`` member ``projection``).
+    """
+    folder = data.folder / PROJECTION_FOLDER
+    return [
+        _save(_projection_shift_figure(data), folder / "shift.png", dpi),
+        _save(_projection_map_figure(data), folder / "map.png", dpi),
+    ]
+
+
+def _projection_shift_figure(data: ScenarioData):
+    from matplotlib.lines import Line2D
+    from matplotlib.patches import Patch
+
+    tr = data.transects
+    proj = data.summary.get("projection") or {}
+    start = (proj.get("settings") or {}).get("start_year")
+    layout = part_layout(data.shoreline, tr)
+    fig = _new_figure(9.0, 5.0)
+    ax = fig.add_subplot()
+    years = projection_years(data)
+    handles = []
+    for (year, column), style in zip(years, _year_styles(len(years)), strict=True):
+        for j, (x, v) in enumerate(_part_lines(tr, layout, column)):
+            ax.plot(x, v, label=_year_label(year, start) if j == 0 else None, zorder=3, **style)
+    ax.axhline(0.0, color="0.3", lw=0.9, zorder=2)
+    for fill in proj.get("nourishments") or []:
+        offset = layout.get(int(fill.get("part_id", 0)), (0.0, 0.0))[0]
+        lo = (offset + float(fill["from_chainage_m"])) / 1000.0
+        hi = (offset + float(fill["to_chainage_m"])) / 1000.0
+        ax.axvspan(lo, hi, fc="#f1e3b3", ec="0.5", hatch="xx", lw=0, zorder=0.5)
+        ax.text(
+            0.5 * (lo + hi),
+            0.98,
+            str(fill.get("name", "")),
+            transform=ax.get_xaxis_transform(),
+            ha="center",
+            va="top",
+            fontsize=8,
+            bbox={"boxstyle": "round,pad=0.15", "fc": "white", "ec": "none", "alpha": 0.8},
+        )
+    if proj.get("nourishments"):
+        handles.append(Patch(fc="#f1e3b3", ec="0.5", hatch="xx", label="nourishment stretch"))
+    setback = (proj.get("settings") or {}).get("setback_m")
+    if setback:
+        ax.axhline(-float(setback), color="black", lw=1.0, ls=(0, (8, 3)), zorder=2)
+        handles.append(
+            Line2D([], [], color="black", lw=1.0, ls=(0, (8, 3)), label=f"setback {setback:g} m")
+        )
+    frame = read_structures(data.folder)
+    if frame is not None and len(frame) and "chainage_m" in frame.columns:
+        for _, row in frame.iterrows():
+            offset = layout.get(int(row.get("part_id", 0)), (0.0, 0.0))[0]
+            ax.axvline((offset + float(row["chainage_m"])) / 1000.0, color="black", lw=2.2)
+        handles.append(Line2D([], [], color="black", lw=2.2, label="structure"))
+    _headroom(ax)
+    line_handles, _ = ax.get_legend_handles_labels()
+    fig.legend(
+        handles=line_handles + handles,
+        loc="outside lower center",
+        ncols=3,
+        fontsize=7.5,
+        frameon=False,
+    )
+    ax.set_ylabel(SHIFT_YEARS_LABEL.replace(" (", "\n("))
+    ax.grid(True, axis="y", color="0.85", lw=0.6)
+    _part_axis([ax], layout)
+    fig.suptitle(f"Projected shoreline shift \u2014 scenario \u201c{data.name}\u201d")
+    _footer(fig)
+    return fig
+
+
+def exaggeration(largest_shift_m: float, map_size_m: float, share: float = 0.03) -> float:
+    """The factor shifts are drawn with on a map (a round number, never below 1).
+
+    The largest shift drawn is then about ``share`` of the map's size.
+
+    Examples
+    --------
+    >>> exaggeration(20.0, 10_000.0), exaggeration(500.0, 10_000.0), exaggeration(0.0, 1e4)
+    (10.0, 1.0, 1.0)
+    """
+    if not (largest_shift_m > 0 and map_size_m > 0):
+        return 1.0
+    raw = share * map_size_m / largest_shift_m
+    if raw <= 1.0:
+        return 1.0
+    power = 10.0 ** math.floor(math.log10(raw))
+    for step in (5.0, 2.0, 1.0):
+        if step * power <= raw:
+            return step * power
+    return power  # pragma: no cover
+
+
+def _projection_map_figure(data: ScenarioData):
+    from matplotlib.lines import Line2D
+    from matplotlib.ticker import FuncFormatter, MaxNLocator
+
+    tr = data.transects
+    proj = data.summary.get("projection") or {}
+    start = (proj.get("settings") or {}).get("start_year")
+    shore_lines = [xy for g in data.shoreline.geometry for xy in _line_xy(g)]
+    first, last = _ends(tr.geometry)
+    allxy = np.vstack(shore_lines) if shore_lines else first[np.isfinite(first).all(axis=1)]
+    if allxy.size == 0:
+        raise OutputError(f"{data.folder / 'results.gpkg'}: no shoreline or transect geometry")
+    xmin, ymin = allxy.min(axis=0)
+    xmax, ymax = allxy.max(axis=0)
+    size_m = max(xmax - xmin, ymax - ymin, 1.0)
+    years = projection_years(data)
+    shifts = np.array([tr[c].to_numpy(float) for _, c in years]) if years else np.zeros((0, 0))
+    largest = float(np.nanmax(np.abs(shifts))) if shifts.size and np.isfinite(shifts).any() else 0
+    factor = exaggeration(largest, size_m)
+    vec = last - first
+    length = np.hypot(vec[:, 0], vec[:, 1])
+    with np.errstate(invalid="ignore", divide="ignore"):
+        unit = vec / length[:, None]
+    parts = tr["part_id"].to_numpy(int)
+    pad = 0.12 * size_m
+    x0, x1, y0, y1 = xmin - pad, xmax + pad, ymin - pad, ymax + pad
+    aspect = (y1 - y0) / (x1 - x0)
+    fig = _new_figure(8.0, float(np.clip(5.6 * aspect + 1.6, 4.0, 10.0)))
+    ax = fig.add_subplot()
+    land = read_layer(data.folder, "land")
+    if land is not None and len(land):
+        land.plot(ax=ax, color=_LAND_FILL, edgecolor="none", zorder=0)
+    for xy in shore_lines:
+        ax.plot(xy[:, 0], xy[:, 1], color="black", lw=1.6, zorder=4)
+    handles = [Line2D([], [], color="black", lw=1.6, label="shoreline today")]
+    for (year, _), shift, style in zip(years, shifts, _year_styles(len(years)), strict=True):
+        moved = first + (factor * shift)[:, None] * unit
+        for part in np.unique(parts):
+            idx = np.flatnonzero(parts == part)
+            ok = np.isfinite(moved[idx]).all(axis=1)
+            for run in np.split(idx, np.flatnonzero(np.diff(ok.astype(int))) + 1):
+                if run.size > 1 and np.isfinite(moved[run]).all():
+                    ax.plot(moved[run, 0], moved[run, 1], zorder=3, **style)
+        handles.append(Line2D([], [], label=_year_label(year, start), **style))
+    frame = read_structures(data.folder)
+    for g in [] if frame is None else frame.geometry:
+        for xy in _line_xy(g):
+            ax.plot(xy[:, 0], xy[:, 1], color="black", lw=3.0, solid_capstyle="butt", zorder=6)
+    if frame is not None and len(frame):
+        handles.append(Line2D([], [], color="black", lw=3.0, label="structure"))
+    ax.set_xlim(x0, x1)
+    ax.set_ylim(y0, y1)
+    ax.set_aspect("equal", adjustable="box")
+    ax.xaxis.set_major_locator(MaxNLocator(nbins=5))
+    ax.yaxis.set_major_locator(MaxNLocator(nbins=5))
+    fmt = FuncFormatter(lambda v, _pos: f"{v:,.0f}".replace(",", "\u2009"))
+    ax.xaxis.set_major_formatter(fmt)
+    ax.yaxis.set_major_formatter(fmt)
+    ax.tick_params(labelsize=8)
+    crs_name = str(data.summary.get("working_crs_name") or getattr(tr.crs, "name", "") or "")
+    ax.set_xlabel(f"Easting [m]  \u00b7  grid: {crs_name}", fontsize=9)
+    ax.set_ylabel("Northing [m]", fontsize=9)
+    _scale_bar(ax, x0, x1, y0, y1)
+    conv = true_north_offset_deg(tr.crs, 0.5 * (xmin + xmax), 0.5 * (ymin + ymax))
+    _north_arrow(ax, x0, x1, y0, y1, conv)
+    fig.legend(handles=handles, loc="outside lower center", ncols=3, fontsize=7.5, frameon=False)
+    drawn = "true scale" if factor == 1.0 else f"shifts drawn \u00d7{factor:g} across the shore"
+    ax.set_title(
+        f"Today\u2019s and projected shorelines ({drawn}) \u2014 scenario \u201c{data.name}\u201d",
+        fontsize=11,
+    )
     _footer(fig)
     return fig

@@ -56,6 +56,12 @@ REFERENCES = (
     "height. M.S. thesis, University of Delaware.",
     "Hallermeier, R.J. (1981). A profile zonation for seasonal sand beaches from wave climate. "
     "Coastal Engineering 4: 253\u2013277.",
+    "Bruun, P. (1962). Journal of the Waterways and Harbors Division, ASCE 88(WW1): 117\u2013130.",
+    "Hanson, H. (1989). Journal of Coastal Research 5(1): 1\u201327.",
+    "Dean, R.G., Dalrymple, R.A. (2002). Coastal Processes with Engineering Applications. "
+    "Cambridge University Press (chapter on shoreline change).",
+    "Hairer, E., Wanner, G. (1996). Solving Ordinary Differential Equations II, 2nd edition. "
+    "Springer (linearly implicit methods).",
     "Pelnard-Consid\u00e8re, R. (1956). Essai de th\u00e9orie de l\u2019\u00e9volution des "
     "formes de rivage en plages de sable et de galets. 4es Journ\u00e9es de l\u2019Hydraulique, "
     "Les \u00c9nergies de la Mer, Question III, Rapport 1. Soci\u00e9t\u00e9 Hydrotechnique "
@@ -105,6 +111,17 @@ _METHOD_PARAGRAPHS = (
     "<code>q_cerc_m3</code>, <code>volume_m3</code>, \u2026) and carry no yearly rate. "
     "A storm\u2019s shift is not to be multiplied up to a year, nor compared with a yearly "
     "rate as if it were one.",
+    "<strong>Projection.</strong> Where the study asks for it, the one-line balance is stepped "
+    "forward year by year (Pelnard-Consid\u00e8re 1956; numerical form after Hanson 1989): "
+    "the shoreline moves along each fixed transect, and at every step the transport is "
+    "recomputed from the shore\u2019s current orientation, the wave record stepping through "
+    "in its own order (repeated) or in whole years drawn at random (resampled). The steps are "
+    "linearly implicit (stable for any step; sand conserved). Sea-level rise moves the "
+    "shoreline landward by the Bruun rule (Bruun 1962), R = S L<sub>*</sub>/(B + "
+    "h<sub>*</sub>), with L<sub>*</sub> the width of the equilibrium profile to the closure "
+    "depth; nourishments are placed as rectangles over the active height; a structure passes "
+    "more sand as its updrift shoreline nears its tip (Hanson 1989). Storm events are not "
+    "projected. A projection repeats the past waves: it is a scenario, not a forecast.",
 )
 
 FIGURE_CAPTIONS = {
@@ -135,6 +152,17 @@ FIGURE_CAPTIONS = {
         "waves from near it reach the shore square on; waves from more than 90\u00b0 off the "
         "local normal come from land."
     ),
+    "projection/shift.png": (
+        "Projected shoreline shift along the shore for each report year (later years darker "
+        "and more solid), positive seaward; nourishment stretches hatched, structures as "
+        "vertical bars, the setback distance (if given) dashed."
+    ),
+    "projection/map.png": (
+        "Today\u2019s shoreline (black) and the projected shorelines of the report years. The "
+        "shifts are drawn along each transect, exaggerated across the shore by the factor in "
+        "the title where they would otherwise be too small to see; the true positions are in "
+        "projection/shorelines.geojson."
+    ),
     "vs_reference.png": (
         "Comparison with the reference. Shoreline change rate of this scenario (solid black) "
         "and of the reference (dashed blue) along the shore; the scenario\u2019s hotspots are "
@@ -144,6 +172,9 @@ FIGURE_CAPTIONS = {
 }
 
 _FIGURE_ORDER = ("map.png", "alongshore.png", "wave_climate.png", "vs_reference.png")
+
+#: The projection's figures, in the scenario's ``projection`` folder.
+_PROJECTION_FIGURES = ("projection/shift.png", "projection/map.png")
 
 _CLASS_ORDER = ("erosion", "accretion", "stable", "sheltered")
 
@@ -638,6 +669,7 @@ def _render_scenario(data: ScenarioData, reference: ScenarioData | None = None) 
         _hotspot_table(data),
         _structure_table(data),
         _ensemble_section(data),
+        _projection_section(data),
         "<h4>Figures</h4>",
     ]
     for name in _FIGURE_ORDER:
@@ -662,6 +694,121 @@ def _render_scenario(data: ScenarioData, reference: ScenarioData | None = None) 
             "</figure>"
         )
     parts.append("</section>")
+    return "".join(parts)
+
+
+def _figure(data: ScenarioData, name: str) -> str:
+    """One embedded figure of a scenario folder, or a note that it is missing."""
+    path = data.folder / name
+    if not path.is_file():
+        return (
+            f'<p class="missing">Figure {_esc(name)} not found in the folder (run '
+            "<code>shoreline report</code> with figures redrawn to make it).</p>"
+        )
+    try:
+        payload = base64.b64encode(path.read_bytes()).decode("ascii")
+    except OSError as exc:
+        raise OutputError(f"{path}: cannot be read ({exc})") from exc
+    alt = FIGURE_CAPTIONS[name].split(".")[0]
+    return (
+        f'<figure><img src="data:image/png;base64,{payload}" alt="{_esc(alt)} \u2014 '
+        f'scenario {_esc(data.name)}"><figcaption>{FIGURE_CAPTIONS[name]}</figcaption>'
+        "</figure>"
+    )
+
+
+def _sea_level_text(spec) -> str:
+    """The sea-level rise of a projection's settings in words."""
+    if not isinstance(spec, dict):
+        return "none"
+    if "m_per_yr" in spec:
+        return f"{float(spec['m_per_yr']) * 1000:g} mm/yr"
+    table = spec.get("m_at_years_after_start") or {}
+    return ", ".join(f"{v:g} m at year {k}" for k, v in table.items()) or "none"
+
+
+def _projection_section(data: ScenarioData) -> str:
+    """The scenario's forward projection ('' where it has none): numbers, fills, figures."""
+    proj = data.summary.get("projection")
+    if not isinstance(proj, dict):
+        return ""
+    st = proj.get("settings") if isinstance(proj.get("settings"), dict) else {}
+    start = st.get("start_year")
+    slr = st.get("sea_level_rise")
+    intro = (
+        f"<p>The shoreline carried forward {_esc(st.get('years', '?'))} years"
+        + (f" from {_esc(start)}" if start is not None else "")
+        + (
+            f" with whole years of the wave record drawn at random (seed {_esc(st.get('seed'))})"
+            if st.get("climate") == "resample"
+            else " with the wave record repeated"
+        )
+        + f"; sea-level rise {_esc(_sea_level_text(slr))}; {_esc(st.get('steps', '?'))} "
+        "steps of at most "
+        f"{_num(st.get('max_step_yr', float('nan')) * 365.25, 1)} days "
+        f"({_esc(st.get('scheme', ''))}). A scenario of the past waves repeated, not a "
+        "forecast.</p>"
+    )
+    years = proj.get("years") if isinstance(proj.get("years"), dict) else {}
+    head = (
+        "<thead><tr><th>Year</th>"
+        '<th class="num">Largest retreat [m]</th><th class="num">Largest advance [m]</th>'
+        '<th class="num">Mean shift [m]</th><th class="num">Sea-level rise [m]</th>'
+        '<th class="num">Bruun retreat, mean [m]</th></tr></thead>'
+    )
+    rows = []
+    for year, v in years.items():
+        if not isinstance(v, dict):
+            continue
+        label = f"{year}" + (f" ({int(start) + int(year)})" if start is not None else "")
+        rows.append(
+            f"<tr><td>{_esc(label)}</td>"
+            f'<td class="num">{_num(v.get("shift_min_m"), 2)}</td>'
+            f'<td class="num">{_num(v.get("shift_max_m"), 2)}</td>'
+            f'<td class="num">{_num(v.get("shift_mean_m"), 2)}</td>'
+            f'<td class="num">{_num(v.get("sea_level_rise_m"), 3)}</td>'
+            f'<td class="num">{_num(v.get("bruun_retreat_mean_m"), 2)}</td></tr>'
+        )
+    parts = [
+        "<h4>Projection</h4>",
+        intro,
+        f'<table class="projection">{head}<tbody>{"".join(rows)}</tbody></table>',
+    ]
+    fills = proj.get("nourishments") or []
+    if fills:
+        report_years = [str(y) for y in proj.get("report_years", [])]
+        fhead = (
+            "<thead><tr><th>Nourishment</th><th>Part</th>"
+            '<th class="num">From–to [km]</th><th class="num">Volume [m\u00b3]</th>'
+            '<th class="num">Year</th>'
+            + "".join(f'<th class="num">Kept, year {_esc(y)}</th>' for y in report_years)
+            + "</tr></thead>"
+        )
+        frows = []
+        for f in fills:
+            kept = f.get("retained_fraction") or {}
+            frows.append(
+                f"<tr><td>{_esc(f.get('name', ''))}</td><td>{_esc(f.get('part_id', ''))}</td>"
+                f'<td class="num">{_num(_km(f.get("from_chainage_m")), 2)}\u2013'
+                f"{_num(_km(f.get('to_chainage_m')), 2)}</td>"
+                f'<td class="num">{_num(f.get("volume_m3"), 0, True)}</td>'
+                f'<td class="num">{_num(f.get("year"), 1)}</td>'
+                + "".join(
+                    '<td class="num">'
+                    + ("\u2013" if kept.get(y) is None else f"{_num(100 * kept[y], 0)} %")
+                    + "</td>"
+                    for y in report_years
+                )
+                + "</tr>"
+            )
+        parts += [
+            "<p>Share of each nourishment\u2019s volume still within its own stretch: the "
+            "projection with it less the same projection without any nourishment.</p>",
+            f'<table class="nourishments">{fhead}<tbody>{"".join(frows)}</tbody></table>',
+        ]
+    for warning in proj.get("warnings") or []:
+        parts.append(f'<p class="missing">{_esc(warning)}</p>')
+    parts += [_figure(data, name) for name in _PROJECTION_FIGURES]
     return "".join(parts)
 
 

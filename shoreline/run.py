@@ -22,7 +22,7 @@ from typing import Any
 import numpy as np
 import shapely
 
-from shoreline import calibrate, ensemble, profile, transport, waves, wind
+from shoreline import calibrate, ensemble, profile, projection, transport, waves, wind
 from shoreline.budget import (
     Hotspot,
     classify,
@@ -368,6 +368,7 @@ class ScenarioResult:
     info: dict[str, Any] = field(default_factory=dict)
     trapping: Trapping | None = None
     ensemble: ensemble.EnsembleResult | None = None  # with [uncertainty] (shoreline.ensemble)
+    projection: projection.Projection | None = None  # with [projection] (shoreline.projection)
 
 
 @dataclass
@@ -1111,6 +1112,19 @@ def run_study(
     ensemble.attach(reference, study, climate, transects, sign, timings, **chain)
     warnings = [sea_warning] if sea_warning else []
     warnings += list(coast.warnings) + list(transects.warnings) + list(climate.warnings)
+    ahead = projection.Setting(  # the forward projection ([projection]), per climate
+        coast,
+        transects,
+        sign,
+        point_index,
+        exposure,
+        structures,
+        np.isin(shore, LEFT_OUT),
+        shore == "non_erodible",
+        coefficients,
+        budget_scale_m(transects),
+    )
+    warnings += projection.attach(reference, study, ahead, climate, progress)
     if fitted is not None:
         warnings += fitted.warnings
     results = [reference]
@@ -1137,6 +1151,7 @@ def run_study(
         )
         result.columns |= info.pop("columns", {})
         result.info |= {"scenario": info}
+        warnings += projection.attach(result, study, ahead, sc_climate, progress)
         result.info["versus_reference"] = compare_with_reference(
             result, reference, study["classify"]["stable_band_m_per_yr"]
         )

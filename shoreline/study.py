@@ -296,6 +296,8 @@ class Study:
     scenarios: list[dict[str, Any]] = field(default_factory=list)
     calibration: list[dict[str, Any]] = field(default_factory=list)
     uncertainty: dict[str, Any] | None = None
+    projection: dict[str, Any] | None = None
+    nourishments: list[dict[str, Any]] = field(default_factory=list)
 
     def __getitem__(self, section: str) -> dict[str, Any]:
         """Return the settings of one section."""
@@ -375,10 +377,11 @@ def validate(raw: dict[str, Any], path: Path) -> Study:
         key, or an inconsistent combination (a steady condition and a record file together).
     """
     for name, table in raw.items():
-        if name in ARRAY_TABLES or name in OPTIONAL_TABLES:
+        if name in ARRAY_TABLES or name in OPTIONAL_TABLES or name in OWN_SECTIONS:
             continue
         if name not in SCHEMA:
-            raise _unknown(path, name, [*SCHEMA, *OPTIONAL_TABLES, *ARRAY_TABLES], None)
+            valid = [*SCHEMA, *OPTIONAL_TABLES, *OWN_SECTIONS, *ARRAY_TABLES]
+            raise _unknown(path, name, valid, None)
         if not isinstance(table, dict):
             raise StudyError(f"{path.name}: [{name}] must be a table of keys, not a value")
     settings = {
@@ -416,6 +419,7 @@ def validate(raw: dict[str, Any], path: Path) -> Study:
     uncertainty = None
     if "uncertainty" in raw:
         uncertainty = _validate_uncertainty(path, raw["uncertainty"], settings)
+    projection, nourishments = _validate_projection(path, raw, scenarios)
     return Study(
         path=path.resolve(),
         raw=raw,
@@ -423,6 +427,8 @@ def validate(raw: dict[str, Any], path: Path) -> Study:
         scenarios=scenarios,
         calibration=calibration,
         uncertainty=uncertainty,
+        projection=projection,
+        nourishments=nourishments,
     )
 
 
@@ -528,7 +534,9 @@ CALIBRATION_KEYS: dict[str, Key] = {
 }
 
 #: Sections written as arrays of tables (``[[name]]``).
-ARRAY_TABLES = ("scenario", "calibration")
+ARRAY_TABLES = ("scenario", "calibration", "nourishment")
+#: Sections validated by a function of their own (their values are not all plain keys).
+OWN_SECTIONS = ("projection",)
 
 #: Sections that change nothing when absent (not in :data:`SCHEMA`, so that a study without
 #: them records exactly the settings it recorded before they existed).
@@ -717,6 +725,202 @@ def _validate_calibration(path: Path, tables: Any) -> list[dict[str, Any]]:
             raise StudyError(f"{path.name}: [{label}] needs both {pair[0]} and {pair[1]}")
         out.append({**values, "form": forms[0]})
     return out
+
+
+# --------------------------------------------------------------------------------------------
+# The forward projection: [projection] and [[nourishment]] (shoreline/projection.py)
+# --------------------------------------------------------------------------------------------
+
+
+def _whole(low: int, high: int, what: str) -> Callable[[Any], str | None]:
+    def check(v: Any) -> str | None:
+        return None if low <= v <= high else f"{what} from {low} to {high}"
+
+    return check
+
+
+#: Keys of ``[projection]`` with a plain value (``report_years``, ``sea_level_rise_m`` and
+#: ``scenarios`` are checked by :func:`_validate_projection`).
+PROJECTION_KEYS: dict[str, Key] = {
+    "years": Key(
+        "int", required=True, check=_whole(1, 500, "a whole number of years"), doc="horizon"
+    ),
+    "start_year": Key(
+        "int", check=_whole(1, 9999, "a calendar year"), doc="calendar year of the start (label)"
+    ),
+    "sea_level_rise_m_per_yr": Key(
+        "float", check=_bounded("sea_level_rise_m_per_yr"), doc="steady rise of the sea"
+    ),
+    "climate": Key(
+        "str",
+        "repeat",
+        check=_one_of("repeat", "resample"),
+        doc='"repeat" the record cyclically or "resample" whole years at random',
+    ),
+    "seed": Key("int", 1, check=_non_negative, doc="seed of the random years of resample"),
+    "setback_m": Key(
+        "float", check=_bounded("setback_m"), doc="a distance of retreat to report against"
+    ),
+}
+
+#: Keys of one ``[[nourishment]]`` table.
+NOURISHMENT_KEYS: dict[str, Key] = {
+    "name": Key("str", required=True, doc="what the fill is (free text)"),
+    "from_chainage_m": Key(
+        "float", required=True, check=_non_negative, doc="start of the stretch along its part"
+    ),
+    "to_chainage_m": Key(
+        "float", required=True, check=_non_negative, doc="end of the stretch along its part"
+    ),
+    "part_id": Key("int", 0, check=_non_negative, doc="the shore part of the stretch"),
+    "volume_m3": Key("float", required=True, check=_bounded("volume_m3"), doc="sand placed"),
+    "year": Key("float", 0.0, check=_non_negative, doc="years after the start"),
+}
+
+
+def _validate_projection(
+    path: Path, raw: dict[str, Any], scenarios: list[dict[str, Any]]
+) -> tuple[dict[str, Any] | None, list[dict[str, Any]]]:
+    """Check ``[projection]`` and the ``[[nourishment]]`` tables; return them as used.
+
+    The projection's settings gain ``report_years`` (sorted whole years within the horizon,
+    default the horizon), ``sea_level_rise`` (``("rate", m_per_yr)`` or ``("table", [(years
+    after the start, metres), ...])`` from 0 at the start) and ``scenarios`` (the climates to
+    project: by default the reference and every changed climate; storm events never).
+    """
+    where = f"{path.name}: [projection]"
+    table = raw.get("projection")
+    tables = raw.get("nourishment", [])
+    if not isinstance(tables, list) or not all(isinstance(t, dict) for t in tables):
+        raise StudyError(f"{path.name}: nourishments are written as [[nourishment]] tables")
+    if table is None:
+        if tables:
+            raise StudyError(
+                f"{path.name}: [[nourishment]] needs a [projection] (a horizon in years) to "
+                "place its sand in"
+            )
+        return None, []
+    if not isinstance(table, dict):
+        raise StudyError(f"{path.name}: [projection] must be a table of keys, not a value")
+    own = ("report_years", "sea_level_rise_m", "scenarios")
+    plain = {k: v for k, v in table.items() if k not in own}
+    values = _validate_table(
+        path, "projection", plain, PROJECTION_KEYS | {k: Key("str") for k in own}
+    )
+    years = values["years"]
+    report = table.get("report_years", [years])
+    if not isinstance(report, list) or not report:
+        raise StudyError(f"{where} report_years = {report!r}: expected a list of whole years")
+    for value in report:
+        if isinstance(value, bool) or not isinstance(value, int):
+            raise StudyError(
+                f"{where} report_years = {report!r}: expected whole numbers of years after "
+                "the start, e.g. [5, 10, 25, 50]"
+            )
+        if not 1 <= value <= years:
+            raise StudyError(
+                f"{where} report_years = {report!r}: {value} lies beyond the horizon "
+                f"(years = {years}); give years from 1 to {years}"
+            )
+    values["report_years"] = sorted(set(report))
+    start = values["start_year"]
+    rate = values.pop("sea_level_rise_m_per_yr")
+    levels = table.get("sea_level_rise_m")
+    if rate is not None and levels is not None:
+        raise StudyError(
+            f"{where} give either sea_level_rise_m_per_yr or sea_level_rise_m, not both"
+        )
+    if levels is None:
+        values["sea_level_rise"] = ("rate", 0.0 if rate is None else rate)
+    else:
+        values["sea_level_rise"] = ("table", _sea_levels(where, levels, start, years))
+    names = table.get("scenarios")
+    values["scenarios"] = _projected_scenarios(where, names, scenarios)
+    values.pop("sea_level_rise_m", None)
+    nourishments = []
+    for number, fill in enumerate(tables, start=1):
+        label = f"nourishment {number}"
+        if isinstance(fill.get("name"), str):
+            label = f"nourishment {fill['name']!r}"
+        if isinstance(fill.get("volume_m3"), (int, float)) and fill["volume_m3"] <= 0:
+            raise StudyError(
+                f"{path.name}: [{label}] volume_m3 = {fill['volume_m3']!r}: expected the "
+                "volume of sand placed, > 0 (sand taken away is not a nourishment)"
+            )
+        v = _validate_table(path, label, fill, NOURISHMENT_KEYS)
+        if not v["from_chainage_m"] < v["to_chainage_m"]:
+            raise StudyError(
+                f"{path.name}: [{label}] from_chainage_m = {v['from_chainage_m']:g} must be "
+                f"less than to_chainage_m = {v['to_chainage_m']:g}"
+            )
+        if v["year"] > years:
+            raise StudyError(
+                f"{path.name}: [{label}] year = {v['year']:g} lies beyond the horizon "
+                f"([projection] years = {years})"
+            )
+        nourishments.append(v)
+    return values, nourishments
+
+
+def _sea_levels(where: str, levels: Any, start: int | None, years: int) -> list:
+    """``sea_level_rise_m = { 2050 = 0.15, ... }`` as ``[(years after start, m), ...]``."""
+    key = f"{where} sea_level_rise_m"
+    if not isinstance(levels, dict) or not levels:
+        raise StudyError(
+            f"{key} = {levels!r}: expected a table of calendar year = metres, e.g. "
+            "{ 2050 = 0.15, 2080 = 0.40 }"
+        )
+    if start is None:
+        raise StudyError(
+            f"{key} is given by calendar year: give start_year, the calendar year of the start"
+        )
+    points = []
+    for year_text, metres in levels.items():
+        try:
+            year = int(str(year_text).strip())
+        except ValueError:
+            raise StudyError(f"{key}: {year_text!r} is not a calendar year") from None
+        if isinstance(metres, bool) or not isinstance(metres, (int, float)):
+            raise StudyError(f"{key}: {year} = {metres!r}: expected metres above the start")
+        bad = BOUNDS["sea_level_rise_m"].check(metres)
+        if bad:
+            raise StudyError(f"{key}: {year} = {metres!r}: expected {bad}")
+        if year <= start:
+            raise StudyError(
+                f"{key}: {year} is not after start_year = {start} (the sea level at the start "
+                "is 0 by definition)"
+            )
+        points.append((float(year - start), float(metres)))
+    points.sort()
+    if points[-1][0] < years:
+        raise StudyError(
+            f"{key}: the last year given, {start + int(points[-1][0])}, is before the horizon "
+            f"{start + years}; give the sea level up to {start + years} or later"
+        )
+    return points
+
+
+def _projected_scenarios(where: str, names: Any, scenarios: list[dict[str, Any]]) -> list[str]:
+    """The climates to project: the reference and changed climates, never a storm event."""
+    events = {s["name"] for s in scenarios if s["duration_h"] is not None}
+    climates = ["reference"] + [s["name"] for s in scenarios if s["name"] not in events]
+    if names is None:
+        return climates
+    if not isinstance(names, list) or not names or not all(isinstance(n, str) for n in names):
+        raise StudyError(
+            f'{where} scenarios = {names!r}: expected a list of names, e.g. ["reference"]'
+        )
+    for name in names:
+        if name in events:
+            raise StudyError(
+                f"{where} scenarios: {name!r} is a storm event; storm events are not projected "
+                f"(project the reference or a changed climate: {', '.join(climates)})"
+            )
+        if name not in climates:
+            raise StudyError(
+                f"{where} scenarios: no climate is named {name!r}; valid: {', '.join(climates)}"
+            )
+    return [n for n in climates if n in names]
 
 
 def read_study(path: str | Path) -> Study:

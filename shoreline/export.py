@@ -24,7 +24,7 @@ from shapely.ops import substring
 
 from shoreline import __version__
 from shoreline.cautions import CAUTION, caution_lines
-from shoreline.climate import joint_histogram
+from shoreline.climate import joint_histogram, largest, mean_height_m
 from shoreline.coast import CoastLines, Transects, chainage_positions, interp_extrapolate
 from shoreline.folders import publish
 from shoreline.run import RunResult, ScenarioResult
@@ -519,8 +519,8 @@ def scenario_summary(result: RunResult, scenario: ScenarioResult) -> dict[str, A
         waves_info |= {
             "records": len(c),
             "records_skipped": c.skipped,
-            "hs_mean_m": float(np.mean(np.average(c.hs_m, axis=-1, weights=c.duration_s))),
-            "hs_max_m": float(c.hs_m.max()),
+            "hs_mean_m": float(np.mean(mean_height_m(c))),
+            "hs_max_m": largest(c, "hs_m"),
         }
     waves_info["depth_m"] = "deep" if math.isinf(c.depth_m) else c.depth_m
     event = is_event(scenario)

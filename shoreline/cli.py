@@ -198,6 +198,7 @@ def _notes(notes: list[str]) -> None:
 
 
 def _cmd_run(args: argparse.Namespace) -> int:
+    from shoreline.climate import close_record
     from shoreline.distributed import cluster
     from shoreline.export import utc_now, write_run
     from shoreline.run import run_study
@@ -242,7 +243,11 @@ def _cmd_run(args: argparse.Namespace) -> int:
                 bar.close()
         extra = None if args.no_figures else _figures_and_report
         command = _recorded_command(args, study, out)
-        write_run(result, out, command, started, extra=extra, notes=notes)
+        try:
+            write_run(result, out, command, started, extra=extra, notes=notes)
+        finally:
+            for scenario in result.scenarios:
+                close_record(scenario.climate)
     _notes(notes)
     if not args.quiet:
         _say(summary_text(result, out))

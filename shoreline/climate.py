@@ -9,6 +9,7 @@ median time step (a long gap is not filled with the last waves seen). Rows with 
 
 from __future__ import annotations
 
+import warnings
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
@@ -360,6 +361,8 @@ class RecordArray:
         Then multiplied by ``factor``, or turned by ``turn_deg`` (``(v + turn) % 360``).
     point_block : int
         Wave points read together (the file's own chunk along the points, where it has one).
+    dataset : xarray.Dataset
+        The dataset ``data`` belongs to (closed by :meth:`close`).
     """
 
     data: Any
@@ -368,6 +371,7 @@ class RecordArray:
     factor: float = 1.0
     turn_deg: float = 0.0
     point_block: int = 64
+    dataset: Any = None
 
     @property
     def shape(self) -> tuple[int, ...]:
@@ -436,6 +440,22 @@ class RecordArray:
     def __array__(self, dtype=None, copy=None) -> np.ndarray:
         out = self[...] if self.ndim == 1 else self[:, :]
         return out if dtype is None else out.astype(dtype)
+
+    def close(self) -> None:
+        """Close the record's files.
+
+        Closed here and now by the run, not left to the garbage collector, which may run in
+        any thread while another opens a file (netCDF's library is not thread-safe).
+        """
+        if self.dataset is not None:
+            self.dataset.close()
+
+
+def close_record(climate: WaveClimate) -> None:
+    """Close the files of a record read lazily (nothing to do for one in memory)."""
+    for arr in (climate.hs_m, climate.tp_s, climate.dir_deg):
+        if isinstance(arr, RecordArray):
+            arr.close()
 
 
 def _load(data: Any) -> np.ndarray:
@@ -555,7 +575,9 @@ def read_record_netcdf(
                 join="exact",
             )
         elif zarr:
-            ds = xr.open_dataset(files[0], engine="zarr", chunks=None)
+            with warnings.catch_warnings():  # a store without consolidated metadata is fine
+                warnings.simplefilter("ignore", RuntimeWarning)
+                ds = xr.open_dataset(files[0], engine="zarr", chunks=None)
         else:
             ds = xr.open_dataset(files[0], cache=False)
     except WaveRecordError:
@@ -629,7 +651,7 @@ def read_record_netcdf(
         raise WaveRecordError(f"{name}: every time step has a missing value; nothing to use")
     duration = durations_s(t, max_gap_h * 3600.0)
     skipped = int(blank.sum())
-    warnings = [f"{name}: skipped {skipped} time steps with a missing value"] if skipped else []
+    notes = [f"{name}: skipped {skipped} time steps with a missing value"] if skipped else []
     if depth is not None and not np.all(BOUNDS["depth_m"].contains(depth)):
         raise WaveRecordError(
             f"{name}: the depth of every wave point must be {BOUNDS['depth_m'].text()} "
@@ -637,7 +659,7 @@ def read_record_netcdf(
         )
     steps = None if keep.all() else np.flatnonzero(keep)
     arrays = {
-        key: RecordArray(var, steps, wrap=key == "dir_deg", point_block=block)
+        key: RecordArray(var, steps, wrap=key == "dir_deg", point_block=block, dataset=ds)
         for key, var in lazy.items()
     }
     if arrays["hs_m"].size <= EAGER_VALUES:
@@ -653,7 +675,7 @@ def read_record_netcdf(
         source=str(files[0]) if len(files) == 1 else f"{files[0]} and {len(files) - 1} more",
         skipped=skipped,
         time=t[keep],
-        warnings=warnings,
+        warnings=notes,
         point_lon=lon,
         point_lat=lat,
         point_names=names,

@@ -10,6 +10,7 @@ from __future__ import annotations
 import hashlib
 import json
 import math
+import os
 import sys
 from collections.abc import Callable, Mapping
 from datetime import datetime, timezone
@@ -188,10 +189,19 @@ def input_files(result: RunResult) -> dict[str, Path]:
     study = result.study
     settings = study.settings
     named = {study.path.name: study.path}
+    waves = settings["waves"]["file"]
+    waves = waves if isinstance(waves, list) else [waves]
+    record = []  # a glob or a list of files: every file it stands for
+    for name in waves:
+        if name and any(c in Path(name).name for c in "*?["):
+            found = sorted((study.folder / name).parent.glob(Path(name).name))
+            record += [os.path.relpath(f, study.folder) for f in found]
+        else:
+            record.append(name)
     written = [
         settings["coast"]["file"],
         settings["coast"].get("land"),
-        settings["waves"]["file"],
+        *record,
         settings.get("structures", {}).get("file"),
         *(s.get("file") for s in study.scenarios),
     ]

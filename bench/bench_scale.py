@@ -4,7 +4,7 @@
     python bench/bench_scale.py long                 # 100,000 transects x 40 hourly years, 1 point
     python bench/bench_scale.py points               # 100,000 transects x 10 years x 500 points
     python bench/bench_scale.py points --workers 2   # the same on a 2-worker LocalCluster
-    python bench/bench_scale.py fit                  # small runs: time against transects, steps, points
+    python bench/bench_scale.py fit                  # time against transects, steps, points
 
 Every case is INVENTED: a coast of parallel shores 100 km long and 25 km apart (so that the
 20 km sheltering rays of one shore never reach the next), gently wavy so that their normals

@@ -115,6 +115,8 @@ CHUNK_ELEMENTS = 1 << 15
 #: the tables are the same floats wherever the tasks run. A fixed number, never the file's
 #: own chunking or the number of workers.
 TIME_CHUNK_STEPS = 1 << 15
+#: Wave points of a record on disk summed by one task (read together).
+POINTS_PER_TASK = 8
 #: A mapper: ``mapper(func, tasks)`` yields ``func(task)`` for every task, in the tasks' order
 #: (:func:`map_in_process`; :class:`shoreline.distributed.DaskMapper`).
 Mapper = Callable[[Callable[[Any], Any], Sequence[Any]], Iterable[Any]]
@@ -885,9 +887,13 @@ def _tables_of(
         block_s = np.asarray(duration.sum())
     else:
         block_s = np.bincount(block_of, weights=duration, minlength=labels.size)
-    per_block = climate.hs_m.point_block if isinstance(climate.hs_m, RecordArray) else 1
+    # points read together: at most POINTS_PER_TASK of one chunk of the file along the points
+    # (enough tasks to keep a cluster busy; which points share a task changes no sum)
+    per_block = 1
+    if isinstance(climate.hs_m, RecordArray):
+        per_block = max(1, min(climate.hs_m.point_block, POINTS_PER_TASK))
     groups: dict[int, list[_TablePlan]] = {}
-    for plan in plans:  # points read together: those of one chunk of the file along points
+    for plan in plans:
         key = -1 if plan.point is None else plan.point // per_block
         groups.setdefault(key, []).append(plan)
     chunks = _time_chunks(duration.size)

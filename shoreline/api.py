@@ -163,17 +163,21 @@ def screen(
     chunk_steps: int | None = None,
     progress: Callable[[int, int], Callable[[int], None]] | None = None,
     stage: Callable[[str, int, str], Callable[[int], None]] | None = None,
+    mapper: Any = None,
 ) -> Results:
     """Run a study and its scenarios (a screening); nothing is written (see :meth:`Results.write`).
 
-    ``progress`` and ``stage`` are the command line's progress hooks (see
+    ``progress`` and ``stage`` are the command line's progress hooks, ``mapper`` runs the
+    table sums elsewhere (Dask: :func:`shoreline.distributed.cluster`; see
     :func:`shoreline.run.run_study`).
     """
     from shoreline.export import utc_now
     from shoreline.run import run_study
 
     started = utc_now()
-    result = run_study(study, chunk_steps=chunk_steps, progress=progress, stage=stage)
+    result = run_study(
+        study, chunk_steps=chunk_steps, progress=progress, stage=stage, mapper=mapper
+    )
     result.started_utc = started
     return Results(result)
 
@@ -187,7 +191,8 @@ def refuse_inputs_inside(study: Study, out: Path) -> None:
     import os
 
     real = Path(os.path.realpath(out))
-    for path in (study.path, study.coast_file, study.wave_file, study.structures_file):
+    waves = study.wave_file if isinstance(study.wave_file, list) else [study.wave_file]
+    for path in (study.path, study.coast_file, *waves, study.structures_file):
         if path is not None and real in Path(os.path.realpath(path)).parents:
             raise OutputError(
                 f"{out}: the output folder holds an input of the study ({path.name}) and is "

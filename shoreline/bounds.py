@@ -271,3 +271,15 @@ MAX_TRANSECTS = 500_000
 #: Values this large in a wave record are the netCDF default fill value (9.96921e36), written
 #: where a variable without ``_FillValue`` was never filled: they are missing, not waves.
 NETCDF_DEFAULT_FILL = 9.9e36
+
+
+# Settings of the run itself (not physical inputs): how long to wait for a Dask scheduler.
+
+#: ``[run] scheduler_timeout_s``: the wait for an existing Dask scheduler to answer.
+SCHEDULER_TIMEOUT_S = Bound(
+    0.0,
+    600.0,
+    "s",
+    "a scheduler that has not answered in ten minutes is taken as unreachable",
+    "our choice",
+)

@@ -25,7 +25,6 @@ from typing import Any
 
 import numpy as np
 import pyproj
-from scipy.spatial import cKDTree
 
 from shoreline.errors import StudyError
 
@@ -56,6 +55,8 @@ def place_points(specs, coast, transects, structures, eligible, study_name: str)
     cand = np.flatnonzero(eligible)
     if cand.size == 0:
         raise StudyError(f"{study_name}: [calibration] there is no open-coast transect to fit at")
+    from scipy.spatial import cKDTree  # here: only calibrated runs need it
+
     tree = cKDTree(np.c_[transects.x_m[cand], transects.y_m[cand]])
     out = []
     for spec in specs:

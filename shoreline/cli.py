@@ -41,6 +41,27 @@ def _common_options(default) -> argparse.ArgumentParser:
     return common
 
 
+def _cluster_options() -> argparse.ArgumentParser:
+    """Where the time reduction runs: in this process (default) or on Dask."""
+    cluster = argparse.ArgumentParser(add_help=False)
+    where = cluster.add_argument_group("large studies (Dask, the 'dask' extra)")
+    where.add_argument(
+        "--workers",
+        type=int,
+        default=None,
+        metavar="N",
+        help="sum the time reduction on a local Dask cluster of N worker processes",
+    )
+    where.add_argument(
+        "--scheduler",
+        default=None,
+        metavar="ADDRESS",
+        help="sum it on an existing Dask cluster (e.g. tcp://host:8786; overrides "
+        "[run] scheduler); results are the same as in one process",
+    )
+    return cluster
+
+
 def build_parser() -> argparse.ArgumentParser:
     """Return the argument parser of the ``shoreline`` command."""
     # the subcommands' copies of the common options leave a value given before the command
@@ -61,7 +82,7 @@ def build_parser() -> argparse.ArgumentParser:
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
     run = sub.add_parser(
         "run",
-        parents=[after],
+        parents=[after, _cluster_options()],
         help="run a study: transects, waves to breaking, transport, rates, hotspots, outputs",
         description="Run a study file and write its GIS layers, tables, figures and report.",
     )
@@ -160,6 +181,10 @@ def _recorded_command(args: argparse.Namespace, study, out: Path) -> list[str]:
         command.append("--no-figures")
     if getattr(args, "chunk", None) is not None:
         command += ["--chunk", str(args.chunk)]
+    if getattr(args, "workers", None) is not None:
+        command += ["--workers", str(args.workers)]
+    if getattr(args, "scheduler", None) is not None:
+        command += ["--scheduler", args.scheduler]
     return command
 
 
@@ -178,10 +203,15 @@ def _notes(notes: list[str]) -> None:
 
 def _cmd_run(args: argparse.Namespace) -> int:
     from shoreline import api
+    from shoreline.climate import close_record
+    from shoreline.distributed import cluster
 
     study = api.read_study(args.study)
     if args.chunk is not None and args.chunk < 1:
         raise StudyError(f"--chunk {args.chunk}: expected a whole number of time steps >= 1")
+    if args.workers is not None and args.workers < 1:
+        raise StudyError(f"--workers {args.workers}: expected a whole number of workers >= 1")
+    scheduler = args.scheduler or study["run"]["scheduler"]
     out = _default_out(args.study, args.out)
     _check_out(study, out)
     bars = []
@@ -208,15 +238,26 @@ def _cmd_run(args: argparse.Namespace) -> int:
 
     with output_lock(out):  # held from the start: a second run into ``out`` refuses at once
         try:
-            results = api.screen(study, chunk_steps=args.chunk, progress=progress, stage=stage)
-            notes = results.write(
-                out,
-                figures=not args.no_figures,
-                command=_recorded_command(args, study, out),
-                progress=stage("writing", len(results.scenario_names), " scenarios"),
-                stage=stage,
-                lock=False,
-            )
+            with cluster(
+                None if scheduler else args.workers,
+                scheduler,
+                study["run"]["scheduler_timeout_s"],
+            ) as mapper:
+                results = api.screen(
+                    study, chunk_steps=args.chunk, progress=progress, stage=stage, mapper=mapper
+                )
+            try:
+                notes = results.write(
+                    out,
+                    figures=not args.no_figures,
+                    command=_recorded_command(args, study, out),
+                    progress=stage("writing", len(results.scenario_names), " scenarios"),
+                    stage=stage,
+                    lock=False,
+                )
+            finally:
+                for scenario in results.run.scenarios:
+                    close_record(scenario.climate)
         finally:
             for bar in bars:
                 bar.close()
@@ -366,7 +407,9 @@ def _waves_text(scenario) -> str:
         text = f"Hs {c.hs_m[0]:.1f} m, Tp {c.tp_s[0]:.1f} s, from {c.dir_deg[0]:.0f} deg"
         limit = scenario.info.get("scenario", {}).get("growth_limit")
         return text + (f" ({limit}-limited)" if limit else "")
-    mean = float(np.mean(np.average(c.hs_m, axis=-1, weights=c.duration_s)))
+    from shoreline.climate import mean_height_m
+
+    mean = float(np.mean(mean_height_m(c)))
     return f"record of {len(c)} steps, mean Hs {mean:.2f} m"
 
 

@@ -44,9 +44,6 @@ from pyproj.aoi import AreaOfInterest
 from pyproj.crs import ProjectedCRS
 from pyproj.crs.coordinate_operation import TransverseMercatorConversion
 from pyproj.database import query_utm_crs_info
-from scipy.sparse import coo_matrix
-from scipy.sparse.csgraph import connected_components
-from scipy.spatial import cKDTree
 
 from shoreline.bounds import LATITUDE_DEG, LONGITUDE_DEG, MAX_TRANSECTS
 from shoreline.errors import CoastError, one_line
@@ -1008,6 +1005,9 @@ def _land_polygons(name, polys, feat, notes) -> tuple[np.ndarray, np.ndarray]:
     pairs = pairs[:, pairs[0] != pairs[1]]
     groups = np.arange(len(land))
     if pairs.shape[1]:
+        from scipy.sparse import coo_matrix  # here: scipy's import is slow
+        from scipy.sparse.csgraph import connected_components
+
         graph = coo_matrix((np.ones(pairs.shape[1]), (pairs[0], pairs[1])), (len(land),) * 2)
         _, groups = connected_components(graph, directed=False)
         merged = []
@@ -1101,6 +1101,8 @@ def _note_meeting_ends(parts, closed, feat, notes) -> None:
         [shapely.get_coordinates(shapely.get_point(parts[open_idx], i)) for i in (0, -1)]
     )
     owner = np.concatenate([open_idx, open_idx])
+    from scipy.spatial import cKDTree  # here: scipy.spatial's import is slow
+
     pairs = cKDTree(ends).query_pairs(_ENDS_MEET_M, output_type="ndarray")
     if len(pairs) == 0:
         return

@@ -37,3 +37,7 @@ def one_line(text: object) -> str:
     'Error tokenizing data. Expected 4 fields'
     """
     return " ".join(str(text).split())
+
+
+class ClusterError(ShorelineError):
+    """The Dask cluster of a run cannot be reached, cannot start, or failed during the run."""

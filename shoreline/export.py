@@ -10,6 +10,7 @@ from __future__ import annotations
 import hashlib
 import json
 import math
+import os
 import sys
 from collections.abc import Callable, Mapping
 from datetime import datetime, timezone
@@ -24,7 +25,7 @@ from shapely.ops import substring
 
 from shoreline import __version__
 from shoreline.cautions import CAUTION, caution_lines
-from shoreline.climate import joint_histogram
+from shoreline.climate import joint_histogram, largest, mean_height_m
 from shoreline.coast import CoastLines, Transects, chainage_positions, interp_extrapolate
 from shoreline.folders import publish
 from shoreline.run import RunResult, ScenarioResult, min_hotspot_length_m
@@ -188,10 +189,19 @@ def input_files(result: RunResult) -> dict[str, Path]:
     study = result.study
     settings = study.settings
     named = {study.path.name: study.path}
+    waves = settings["waves"]["file"]
+    waves = waves if isinstance(waves, list) else [waves]
+    record = []  # a glob or a list of files: every file it stands for
+    for name in waves:
+        if name and any(c in Path(name).name for c in "*?["):
+            found = sorted((study.folder / name).parent.glob(Path(name).name))
+            record += [os.path.relpath(f, study.folder) for f in found]
+        else:
+            record.append(name)
     written = [
         settings["coast"]["file"],
         settings["coast"].get("land"),
-        settings["waves"]["file"],
+        *record,
         settings.get("structures", {}).get("file"),
         *(s.get("file") for s in study.scenarios),
     ]
@@ -529,8 +539,8 @@ def scenario_summary(result: RunResult, scenario: ScenarioResult) -> dict[str, A
         waves_info |= {
             "records": len(c),
             "records_skipped": c.skipped,
-            "hs_mean_m": float(np.mean(np.average(c.hs_m, axis=-1, weights=c.duration_s))),
-            "hs_max_m": float(c.hs_m.max()),
+            "hs_mean_m": float(np.mean(mean_height_m(c))),
+            "hs_max_m": largest(c, "hs_m"),
         }
     waves_info["depth_m"] = "deep" if math.isinf(c.depth_m) else c.depth_m
     event = is_event(scenario)

@@ -53,12 +53,13 @@ there, scale factor 0.9996), sea to the south, with a detached breakwater 500 m 
 
 from __future__ import annotations
 
+import os
 from collections.abc import Callable
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 
 import numpy as np
 import shapely
-from scipy import special
 
 from shoreline.coast import Transects, _frozen_array, _scale_and_north
 from shoreline.errors import CoastError
@@ -108,6 +109,9 @@ OPEN_COAST_FACING_DEG = 60.0
 
 #: Transects handled together; bounds the memory of the candidate pairs.
 _CHUNK = 400
+
+#: Threads casting the rays of chunks of transects.
+_THREADS = min(2, os.cpu_count() or 1)
 
 #: A chunk whose transects meet more candidate segments than this is split in two [pairs].
 _MAX_PAIRS = 1_500_000
@@ -583,13 +587,20 @@ def compute_exposure(
     cos_turn = np.zeros((n, m))
     if tree is not None:
         todo = np.flatnonzero(valid & ~on_land)
-        for c0 in range(0, len(todo), _CHUNK):
+
+        def hits(c0: int) -> tuple[np.ndarray, tuple[np.ndarray, np.ndarray]]:
             rows = todo[c0 : c0 + _CHUNK]
-            hit_ground[rows], cos_turn[rows] = _first_hits(
-                rows, sx, sy, k0, gx, gy, beta, normal_v, cast, directions, step, d_m, seg, tree
-            )
-            if progress is not None:
-                progress(len(rows))
+            args = (sx, sy, k0, gx, gy, beta, normal_v, cast, directions, step, d_m, seg, tree)
+            return rows, _first_hits(rows, *args)
+
+        # chunks of transects on threads (numpy and GEOS release the interpreter lock); each
+        # row's hits depend on that row only, so the result does not depend on the threads
+        starts = range(0, len(todo), _CHUNK)
+        with ThreadPoolExecutor(max_workers=min(_THREADS, max(len(starts), 1))) as pool:
+            for rows, (ground, turn) in pool.map(hits, starts):
+                hit_ground[rows], cos_turn[rows] = ground, turn
+                if progress is not None:
+                    progress(len(rows))
 
     hit = cast & np.isfinite(hit_ground)
     blocked = hit.copy()
@@ -842,6 +853,8 @@ def _spread_cdf(x_deg, s) -> np.ndarray:
     x = np.asarray(x_deg, dtype=float)
     far = x > 180.0  # beyond the back of the circle: 1/2 plus the part from 180 to x
     y = np.radians(np.where(far, 360.0 - x, x))
+    from scipy import special  # here, not at the top: keeps 'import shoreline' quick
+
     half = 0.5 * np.sign(y) * special.betainc(0.5, s + 0.5, np.sin(0.5 * y) ** 2)
     return np.where(far, 1.0 - half, half)
 

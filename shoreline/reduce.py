@@ -79,17 +79,18 @@ project's own arrangement of the sums.
 
 from __future__ import annotations
 
+import functools
 import math
 import os
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Iterable, Sequence
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 from shoreline import profile, transport, waves
-from shoreline.climate import WaveClimate
+from shoreline.climate import RecordArray, WaveClimate
 
 if TYPE_CHECKING:
     from shoreline.run import Reductions
@@ -101,6 +102,7 @@ __all__ = [
     "Physics",
     "Tables",
     "direction_sector",
+    "map_in_process",
     "reductions_from_sums",
     "tabulate",
     "tabulated_reductions",
@@ -108,6 +110,16 @@ __all__ = [
 
 #: Node-steps (or transect-steps on the direct path) evaluated per chunk of the record.
 CHUNK_ELEMENTS = 1 << 15
+#: Time steps per task: the record is cut into time chunks of this many steps, at the same
+#: boundaries in-process and on a cluster, and the chunk sums are added in chunk order, so
+#: the tables are the same floats wherever the tasks run. A fixed number, never the file's
+#: own chunking or the number of workers.
+TIME_CHUNK_STEPS = 1 << 15
+#: Wave points of a record on disk summed by one task (read together).
+POINTS_PER_TASK = 8
+#: A mapper: ``mapper(func, tasks)`` yields ``func(task)`` for every task, in the tasks' order
+#: (:func:`map_in_process`; :class:`shoreline.distributed.DaskMapper`).
+Mapper = Callable[[Callable[[Any], Any], Sequence[Any]], Iterable[Any]]
 #: A wave point whose transects x steps are no more than this is solved directly: tables would
 #: save under a second there, and the direct path is exact (see tabulated_reductions, Notes).
 DIRECT_TRANSECT_STEPS = 1 << 21
@@ -485,135 +497,103 @@ def _node_grid(normal_deg: np.ndarray, step_deg: float, margin_nodes: int) -> tu
     return k_lo * step_deg, max(k_hi - k_lo + 1, 2)
 
 
-def _point_record(climate: WaveClimate, point: int | None):
-    """(hs, tp, dir, depth) of one wave point."""
+def _point_depth(climate: WaveClimate, point: int | None) -> float:
+    """The input depth of one wave point [m]."""
     depth = np.asarray(climate.depth_m, dtype=float)
-    if climate.hs_m.ndim == 1:
-        return climate.hs_m, climate.tp_s, climate.dir_deg, float(depth.reshape(-1)[0])
-    p = 0 if point is None else int(point)
-    d = float(depth[p]) if depth.ndim == 1 else float(depth)
-    return climate.hs_m[p], climate.tp_s[p], climate.dir_deg[p], d
+    if climate.hs_m.ndim == 1 or depth.ndim == 0:
+        return float(depth.reshape(-1)[0])
+    return float(depth[0 if point is None else int(point)])
 
 
-class _Ticker:
-    """Turn work done (elements) into whole steps of the record for a progress callback."""
+class _Slice:
+    """The values of some wave points over one time chunk of one record variable.
 
-    def __init__(self, callback: Callable[[int], None] | None, total_work: float, steps: int):
-        self.callback, self.total, self.steps = callback, max(total_work, 1.0), steps
-        self.done = 0.0
-        self.reported = 0
-
-    def __call__(self, work: float) -> None:
-        if self.callback is None:
-            return
-        self.done += work
-        now = min(self.steps, int(self.done / self.total * self.steps + 1e-9))
-        if now > self.reported:
-            self.callback(now - self.reported)
-            self.reported = now
-
-    def finish(self) -> None:
-        """Report whatever is left (e.g. steps with no direction, which need no work)."""
-        if self.callback is not None and self.reported < self.steps:
-            self.callback(self.steps - self.reported)
-            self.reported = self.steps
-
-
-def tabulate(
-    climate: WaveClimate,
-    normal_az_deg: np.ndarray,
-    physics: Physics,
-    *,
-    point: int | None = None,
-    n_sectors: int = 1,
-    sectors: np.ndarray | None = None,
-    blocks: np.ndarray | None = None,
-    angle_step_deg: float = 0.5,
-    margin_nodes: int = 1,
-    quantities: Sequence[str] | None = None,
-    chunk_steps: int | None = None,
-    workers: int | None = None,
-    progress: Callable[[int], None] | None = None,
-) -> Tables:
-    """Sum one wave point's record on normal-azimuth nodes and direction sectors.
-
-    Parameters
-    ----------
-    climate : WaveClimate
-        The record; with several wave points, ``point`` chooses one.
-    normal_az_deg : ndarray
-        The seaward normals the tables must serve [deg]: the nodes span them along the shorter
-        way round the circle, plus ``margin_nodes`` on each side. NaN normals are ignored.
-    physics : Physics
-        The chain's settings.
-    point : int, optional
-        Wave point (row of the climate arrays); default 0.
-    n_sectors : int
-        Direction sectors of the sheltering grid (``m``, e.g. 360 for 1-degree exposure rays);
-        1 when there is no sheltering.
-    sectors : ndarray of int, optional
-        Tabulate only the steps in these sectors (e.g. those open to any of the transects
-        served: the others would be weighted by zero); default all.
-    blocks : ndarray of int, shape (steps,), optional
-        A block label per time step (e.g. the year or the month): the tables get a leading
-        block axis, one table per distinct label, in sorted label order.
-    angle_step_deg : float
-        Node spacing [deg] (> 0).
-    margin_nodes : int
-        Extra nodes on each side of the normals (room for a direction bias).
-    quantities : sequence of str, optional
-        Keep only these sums (see the module notes); default all.
-    chunk_steps : int, optional
-        Time steps per chunk (default: about :data:`CHUNK_ELEMENTS` node-steps a chunk).
-    workers : int, optional
-        Threads (default up to 2).
-    progress : callable, optional
-        ``progress(steps_done)`` after each chunk.
-
-    Returns
-    -------
-    Tables
-
-    Notes
-    -----
-    The steps are ordered by (block, sector) once (an index over the record) and streamed in
-    chunks; in each chunk the angles of every node and step are formed, waves from land
-    (``|angle| >= 90``) are dropped, the rest are carried to breaking and transport
-    (:func:`shoreline.waves.breaking`, :func:`shoreline.transport.longshore_transport`), and
-    the duration-weighted values are summed per (node, block, sector) with ``np.bincount``.
-    Nothing of size steps x nodes is kept.
+    Made where the tasks are planned and loaded where a task runs: an in-memory array is cut
+    there (only the slice is pickled to a worker), a record on disk
+    (:class:`shoreline.climate.RecordArray`) is read where the task runs.
     """
-    if not angle_step_deg > 0:
-        raise ValueError(f"angle_step_deg must be > 0 for tables; got {angle_step_deg}")
-    names = physics.quantities if quantities is None else tuple(quantities)
-    unknown = [q for q in names if q not in physics.quantities]
-    if unknown:
-        raise ValueError(f"unknown quantities {unknown}; expected some of {physics.quantities}")
-    net = f"q_{physics.primary}_m3"
-    if "q_pos_m3" in names and net not in names:  # the side of the sea needs it (module notes)
-        names = (net, *names)
-    step = float(angle_step_deg)
-    m = int(n_sectors)
-    normal = np.asarray(normal_az_deg, dtype=float).reshape(-1)
-    if not np.isfinite(normal).any():
-        raise ValueError("tabulate() needs at least one finite normal")
-    node0, n_nodes = _node_grid(normal, step, int(margin_nodes))
-    nodes = node0 + step * np.arange(n_nodes)
-    hs, tp, dr, depth = _point_record(climate, point)
-    duration = np.asarray(climate.duration_s, dtype=float)
+
+    def __init__(self, values, points: tuple[int, ...] | None, steps: slice):
+        self.points, self.steps = points, steps
+        self.lazy = isinstance(values, RecordArray)
+        if self.lazy:
+            self.values = values
+        elif points is None:  # a record of one point
+            self.values = np.asarray(values)[steps][None, :]
+        else:
+            self.values = np.asarray(values)[list(points), steps]
+
+    def load(self) -> np.ndarray:
+        """Shape (points, steps of the chunk)."""
+        if not self.lazy:
+            return self.values
+        if self.points is None:
+            return np.atleast_2d(self.values[self.steps])
+        lo, hi = min(self.points), max(self.points) + 1
+        block = self.values[lo:hi, self.steps]
+        return block[[q - lo for q in self.points]]
+
+
+@dataclass(frozen=True)
+class _TableTask:
+    """One task of the time reduction: the table sums of some wave points over one time chunk.
+
+    The record is cut into chunks of :data:`TIME_CHUNK_STEPS` steps at fixed boundaries, the
+    same wherever the task runs, so the partial sums and their order of summation (chunk after
+    chunk) are the same floats in-process and on a cluster.
+    """
+
+    nodes: tuple[np.ndarray, ...]  # per wave point of the task
+    depths: tuple[float, ...]
+    allowed: tuple[np.ndarray | None, ...]
+    data: tuple[_Slice, _Slice, _Slice]  # hs, tp, dir
+    duration_s: np.ndarray
+    block_of: np.ndarray
+
+
+@dataclass(frozen=True)
+class _TableSettings:
+    """What every task of one reduction shares (pickled once per task, small)."""
+
+    physics: Physics
+    n_sectors: int
+    n_blocks: int
+    raw: tuple[str, ...]
+    chunk_steps: int | None
+    threads: int
+
+
+def _table_task(settings: _TableSettings, task: _TableTask) -> list:
+    """Run one task: ``[(used_sectors, sums), ...]``, one pair per wave point of the task."""
+    hs, tp, dr = (piece.load() for piece in task.data)
+    out = []
+    for i, nodes in enumerate(task.nodes):
+        out.append(
+            _chunk_sums(
+                hs[i], tp[i], dr[i], task.duration_s, task.block_of, nodes, task.depths[i],
+                task.allowed[i], settings,
+            )
+        )  # fmt: skip
+    return out
+
+
+def _chunk_sums(hs, tp, dr, duration, block_of, nodes, depth, allowed, settings: _TableSettings):
+    """The table sums of one wave point over one time chunk.
+
+    Returns ``(used, sums)``: the sectors that hold any step of the chunk and, per quantity,
+    the sums of shape (nodes, blocks x used) (column ``block * used.size + j``).
+    """
+    physics, m, n_blocks, raw = (
+        settings.physics,
+        settings.n_sectors,
+        settings.n_blocks,
+        settings.raw,
+    )
+    n_nodes = nodes.size
     sector = direction_sector(dr, m)
-    if blocks is None:
-        labels, block_of = None, np.zeros(duration.size, dtype=np.intp)
-        block_s = np.asarray(duration.sum())
-    else:
-        labels, block_of = np.unique(np.asarray(blocks).reshape(-1), return_inverse=True)
-        if block_of.size != duration.size:
-            raise ValueError(f"blocks must give one label per time step ({duration.size})")
-        block_s = np.bincount(block_of, weights=duration, minlength=labels.size)
-    n_blocks = 1 if labels is None else labels.size
     ok = sector >= 0
-    if sectors is not None:
-        ok &= np.isin(sector, np.asarray(sectors, dtype=np.int64))
+    if allowed is not None:
+        ok &= np.isin(sector, allowed)
     keep = np.flatnonzero(ok)
     used = np.unique(sector[keep])
     key = block_of[keep] * used.size + np.searchsorted(used, sector[keep])
@@ -621,10 +601,8 @@ def tabulate(
     steps_idx, key = keep[order], key[order]
     hs_s, tp_s, dr_s, w_s = hs[steps_idx], tp[steps_idx], dr[steps_idx], duration[steps_idx]
     n_keys = n_blocks * used.size
-    raw = _raw(names, physics)
     sums = {q: np.zeros((n_nodes, n_keys)) for q in raw}
-    size = int(chunk_steps) if chunk_steps else max(1, CHUNK_ELEMENTS // n_nodes)
-    tick = _Ticker(progress, float(steps_idx.size), duration.size)
+    size = int(settings.chunk_steps) if settings.chunk_steps else max(1, CHUNK_ELEMENTS // n_nodes)
     from shoreline.run import wrap_deg
 
     def chunk(lo: int) -> tuple[int, dict[str, np.ndarray] | None]:
@@ -666,21 +644,298 @@ def tabulate(
             for q in raw
         }
 
-    starts = range(0, steps_idx.size, size)
-    with ThreadPoolExecutor(max_workers=workers or min(2, os.cpu_count() or 1)) as pool:
-        for lo, (k_first, part) in zip(starts, pool.map(chunk, starts), strict=True):
+    def add(parts) -> None:
+        for k_first, part in parts:  # in order: the same sums however many threads
             if part is not None:
                 k_count = next(iter(part.values())).shape[1]
                 for q in raw:
                     sums[q][:, k_first : k_first + k_count] += part[q]
-            tick(min(size, steps_idx.size - lo))
+
+    starts = range(0, steps_idx.size, size)
+    if settings.threads > 1 and len(starts) > 1:
+        with ThreadPoolExecutor(max_workers=settings.threads) as pool:
+            add(pool.map(chunk, starts))
+    else:
+        add(map(chunk, starts))
+    return used, sums
+
+
+class _TableSum:
+    """The sum of a wave point's chunk sums, chunk after chunk (one fixed order)."""
+
+    def __init__(self, n_nodes: int, n_blocks: int, raw: Sequence[str]):
+        self.n_nodes, self.n_blocks, self.raw = n_nodes, n_blocks, tuple(raw)
+        self.used = np.zeros(0, dtype=np.int64)
+        self.acc = {q: np.zeros((n_nodes, n_blocks, 0)) for q in self.raw}
+
+    def add(self, used: np.ndarray, part: dict[str, np.ndarray]) -> None:
+        """Add one chunk's ``(used, sums)``."""
+        if used.size == 0:
+            return
+        if not np.isin(used, self.used).all():
+            new = np.union1d(self.used, used)
+            at = np.searchsorted(new, self.used)
+            for q in self.raw:
+                grown = np.zeros((self.n_nodes, self.n_blocks, new.size))
+                grown[:, :, at] = self.acc[q]
+                self.acc[q] = grown
+            self.used = new
+        idx = np.searchsorted(self.used, used)
+        for q in self.raw:
+            self.acc[q][:, :, idx] += part[q].reshape(self.n_nodes, self.n_blocks, used.size)
+
+    def sums(self) -> dict[str, np.ndarray]:
+        """Per quantity, shape (nodes, blocks x used) (column ``block * used.size + j``)."""
+        shape = (self.n_nodes, self.n_blocks * self.used.size)
+        return {q: v.reshape(shape) for q, v in self.acc.items()}
+
+
+def _time_chunks(n_steps: int) -> list[slice]:
+    """The fixed cut of a record into time chunks (:data:`TIME_CHUNK_STEPS` steps each)."""
+    return [
+        slice(t0, min(t0 + TIME_CHUNK_STEPS, n_steps)) for t0 in range(0, n_steps, TIME_CHUNK_STEPS)
+    ]
+
+
+def map_in_process(func: Callable[[Any], Any], tasks: Sequence[Any]) -> Iterable[Any]:
+    """The default mapper: the tasks one after another in this process, results in order.
+
+    A mapper takes a function of one task and the tasks, and yields the results in the
+    tasks' order; :mod:`shoreline.distributed` gives one that runs them on Dask. Each task's
+    own chunks run on threads here (``workers``).
+    """
+    return map(func, tasks)
+
+
+class _Ticker:
+    """Turn work done (elements) into whole steps of the record for a progress callback."""
+
+    def __init__(self, callback: Callable[[int], None] | None, total_work: float, steps: int):
+        self.callback, self.total, self.steps = callback, max(total_work, 1.0), steps
+        self.done = 0.0
+        self.reported = 0
+
+    def __call__(self, work: float) -> None:
+        if self.callback is None:
+            return
+        self.done += work
+        now = min(self.steps, int(self.done / self.total * self.steps + 1e-9))
+        if now > self.reported:
+            self.callback(now - self.reported)
+            self.reported = now
+
+    def finish(self) -> None:
+        """Report whatever is left (e.g. steps with no direction, which need no work)."""
+        if self.callback is not None and self.reported < self.steps:
+            self.callback(self.steps - self.reported)
+            self.reported = self.steps
+
+
+def tabulate(
+    climate: WaveClimate,
+    normal_az_deg: np.ndarray,
+    physics: Physics,
+    *,
+    point: int | None = None,
+    n_sectors: int = 1,
+    sectors: np.ndarray | None = None,
+    blocks: np.ndarray | None = None,
+    angle_step_deg: float = 0.5,
+    margin_nodes: int = 1,
+    quantities: Sequence[str] | None = None,
+    chunk_steps: int | None = None,
+    workers: int | None = None,
+    progress: Callable[[int], None] | None = None,
+    mapper: Mapper | None = None,
+) -> Tables:
+    """Sum one wave point's record on normal-azimuth nodes and direction sectors.
+
+    Parameters
+    ----------
+    climate : WaveClimate
+        The record; with several wave points, ``point`` chooses one.
+    normal_az_deg : ndarray
+        The seaward normals the tables must serve [deg]: the nodes span them along the shorter
+        way round the circle, plus ``margin_nodes`` on each side. NaN normals are ignored.
+    physics : Physics
+        The chain's settings.
+    point : int, optional
+        Wave point (row of the climate arrays); default 0.
+    n_sectors : int
+        Direction sectors of the sheltering grid (``m``, e.g. 360 for 1-degree exposure rays);
+        1 when there is no sheltering.
+    sectors : ndarray of int, optional
+        Tabulate only the steps in these sectors (e.g. those open to any of the transects
+        served: the others would be weighted by zero); default all.
+    blocks : ndarray of int, shape (steps,), optional
+        A block label per time step (e.g. the year or the month): the tables get a leading
+        block axis, one table per distinct label, in sorted label order.
+    angle_step_deg : float
+        Node spacing [deg] (> 0).
+    margin_nodes : int
+        Extra nodes on each side of the normals (room for a direction bias).
+    quantities : sequence of str, optional
+        Keep only these sums (see the module notes); default all.
+    chunk_steps : int, optional
+        Time steps per chunk (default: about :data:`CHUNK_ELEMENTS` node-steps a chunk).
+    workers : int, optional
+        Threads (default up to 2).
+    progress : callable, optional
+        ``progress(steps_done)`` after each chunk.
+    mapper : callable, optional
+        Runs the tasks (time chunks): default in this process (:func:`map_in_process`);
+        :class:`shoreline.distributed.DaskMapper` runs them on Dask, with the same result.
+
+    Returns
+    -------
+    Tables
+
+    Notes
+    -----
+    The steps are ordered by (block, sector) once (an index over the record) and streamed in
+    chunks; in each chunk the angles of every node and step are formed, waves from land
+    (``|angle| >= 90``) are dropped, the rest are carried to breaking and transport
+    (:func:`shoreline.waves.breaking`, :func:`shoreline.transport.longshore_transport`), and
+    the duration-weighted values are summed per (node, block, sector) with ``np.bincount``.
+    Nothing of size steps x nodes is kept.
+    """
+    if not angle_step_deg > 0:
+        raise ValueError(f"angle_step_deg must be > 0 for tables; got {angle_step_deg}")
+    names = physics.quantities if quantities is None else tuple(quantities)
+    unknown = [q for q in names if q not in physics.quantities]
+    if unknown:
+        raise ValueError(f"unknown quantities {unknown}; expected some of {physics.quantities}")
+    net = f"q_{physics.primary}_m3"
+    if "q_pos_m3" in names and net not in names:  # the side of the sea needs it (module notes)
+        names = (net, *names)
+    step = float(angle_step_deg)
+    normal = np.asarray(normal_az_deg, dtype=float).reshape(-1)
+    if not np.isfinite(normal).any():
+        raise ValueError("tabulate() needs at least one finite normal")
+    node0, n_nodes = _node_grid(normal, step, int(margin_nodes))
+    duration = np.asarray(climate.duration_s, dtype=float)
+    if blocks is None:
+        labels, block_of = None, np.zeros(duration.size, dtype=np.intp)
+    else:
+        labels, block_of = np.unique(np.asarray(blocks).reshape(-1), return_inverse=True)
+        if block_of.size != duration.size:
+            raise ValueError(f"blocks must give one label per time step ({duration.size})")
+    plan = _TablePlan(
+        point=None if climate.hs_m.ndim == 1 else (0 if point is None else int(point)),
+        node0=node0,
+        n_nodes=n_nodes,
+        depth=_point_depth(climate, point),
+        allowed=None if sectors is None else np.asarray(sectors, dtype=np.int64),
+    )
+    settings = _TableSettings(
+        physics,
+        int(n_sectors),
+        1 if labels is None else labels.size,
+        _raw(names, physics),
+        chunk_steps,
+        _threads(workers, mapper),
+    )
+    tick = _Ticker(progress, float(duration.size) * n_nodes, duration.size)
+    tables = None
+    for _, tables in _tables_of(  # noqa: B007 - one point: the last tables are its tables
+        climate, [plan], step, settings, names, labels, block_of, mapper, tick
+    ):
+        pass
     tick.finish()
-    sums = _derive(sums, names, physics)
-    if labels is not None:
-        sums = {
-            q: v.reshape(n_nodes, n_blocks, used.size).transpose(1, 0, 2) for q, v in sums.items()
-        }
-    return Tables(node0, step, m, used, sums, block_s, labels, physics.primary)
+    return tables
+
+
+def _threads(workers: int | None, mapper: Mapper | None) -> int:
+    """Threads per task: ``workers`` in-process (default up to 2); a mapper may say its own."""
+    if mapper is not None and getattr(mapper, "threads_per_task", None):
+        return int(mapper.threads_per_task)
+    return workers or min(2, os.cpu_count() or 1)
+
+
+@dataclass(frozen=True)
+class _TablePlan:
+    """One wave point to tabulate: its row of the record and its node grid."""
+
+    point: int | None  # None: a record of one point (1-D arrays)
+    node0: float
+    n_nodes: int
+    depth: float
+    allowed: np.ndarray | None
+
+
+def _tables_of(
+    climate: WaveClimate,
+    plans: Sequence[_TablePlan],
+    step: float,
+    settings: _TableSettings,
+    names: Sequence[str],
+    labels: np.ndarray | None,
+    block_of: np.ndarray,
+    mapper: Mapper | None,
+    tick: _Ticker,
+):
+    """Yield ``(plan, Tables)`` of every planned wave point, summed over the time chunks.
+
+    The work is mapped as tasks of (a block of wave points, one time chunk) through ``mapper``
+    (default :func:`map_in_process`); each point's chunk sums are added in chunk order as the
+    results come back in task order, and a block's tables are yielded as soon as its last
+    chunk is in, so that memory holds the tables of one block of points.
+    """
+    duration = np.asarray(climate.duration_s, dtype=float)
+    n_blocks = settings.n_blocks
+    if labels is None:
+        block_s = np.asarray(duration.sum())
+    else:
+        block_s = np.bincount(block_of, weights=duration, minlength=labels.size)
+    # points read together: at most POINTS_PER_TASK of one chunk of the file along the points
+    # (enough tasks to keep a cluster busy; which points share a task changes no sum)
+    per_block = 1
+    if isinstance(climate.hs_m, RecordArray):
+        per_block = max(1, min(climate.hs_m.point_block, POINTS_PER_TASK))
+    groups: dict[int, list[_TablePlan]] = {}
+    for plan in plans:
+        key = -1 if plan.point is None else plan.point // per_block
+        groups.setdefault(key, []).append(plan)
+    chunks = _time_chunks(duration.size)
+    tasks, index = [], []
+    for g, members in groups.items():
+        points = None if members[0].point is None else tuple(m.point for m in members)
+        for c, sl in enumerate(chunks):
+            data = tuple(
+                _Slice(v, points, sl) for v in (climate.hs_m, climate.tp_s, climate.dir_deg)
+            )
+            tasks.append(
+                _TableTask(
+                    nodes=tuple(m.node0 + step * np.arange(m.n_nodes) for m in members),
+                    depths=tuple(m.depth for m in members),
+                    allowed=tuple(m.allowed for m in members),
+                    data=data,
+                    duration_s=duration[sl],
+                    block_of=block_of[sl],
+                )
+            )
+            index.append((g, c, sl))
+    run = mapper or map_in_process
+    func = functools.partial(_table_task, settings)
+    totals: dict[int, list[_TableSum]] = {}
+    for (g, c, sl), result in zip(index, run(func, tasks), strict=True):
+        members = groups[g]
+        acc = totals.setdefault(g, [_TableSum(m.n_nodes, n_blocks, settings.raw) for m in members])
+        for total, (used, part) in zip(acc, result, strict=True):
+            total.add(used, part)
+        tick(float(sl.stop - sl.start) * sum(m.n_nodes for m in members))
+        if c == len(chunks) - 1:
+            for plan, total in zip(members, totals.pop(g), strict=True):
+                sums = _derive(total.sums(), names, settings.physics)
+                if labels is not None:
+                    sums = {
+                        q: v.reshape(plan.n_nodes, n_blocks, total.used.size).transpose(1, 0, 2)
+                        for q, v in sums.items()
+                    }
+                yield plan, Tables(
+                    plan.node0, step, settings.n_sectors, total.used, sums, block_s, labels,
+                    settings.physics.primary,
+                )  # fmt: skip
 
 
 def _direct_sums(
@@ -703,7 +958,9 @@ def _direct_sums(
     if n_rows == 0:
         return _derive(out, names, physics)
     two = climate.hs_m.ndim == 2
-    hs, tp, dr = (np.atleast_2d(v) for v in (climate.hs_m, climate.tp_s, climate.dir_deg))
+    lazy = isinstance(climate.hs_m, RecordArray)  # read per chunk of steps where on disk
+    arrays = (climate.hs_m, climate.tp_s, climate.dir_deg)
+    hs, tp, dr = arrays if lazy else (np.atleast_2d(v) for v in arrays)
     depth = np.asarray(climate.depth_m, dtype=float)
     duration = np.asarray(climate.duration_s, dtype=float)
     n_steps = duration.size
@@ -720,7 +977,8 @@ def _direct_sums(
         local = np.arange(r0, min(r0 + per, n_rows))
         sel = rows[local]
         sl = slice(s0, s0 + steps)
-        d = dr[:, sl][pt[local]]
+        hs_c, tp_c, dr_c = (np.atleast_2d(v[..., sl]) for v in (hs, tp, dr))
+        d = dr_c[pt[local]]
         angle = wrap_deg(d - normal[sel][:, None])
         angle *= sign[sel][:, None]
         w = np.broadcast_to(duration[sl], angle.shape)
@@ -730,8 +988,8 @@ def _direct_sums(
         r_i, s_i = np.nonzero((np.abs(angle) < 90.0) & (w > 0))
         dep = depth_rows if np.ndim(depth_rows) == 0 else depth_rows[local][r_i]
         values = _evaluate(
-            hs[:, sl][pt[local]][r_i, s_i],
-            tp[:, sl][pt[local]][r_i, s_i],
+            hs_c[pt[local]][r_i, s_i],
+            tp_c[pt[local]][r_i, s_i],
             angle[r_i, s_i],
             dep,
             w[r_i, s_i],
@@ -801,6 +1059,7 @@ def tabulated_reductions(
     chunk_steps: int | None = None,
     workers: int | None = None,
     progress: Callable[[int], None] | None = None,
+    mapper: Mapper | None = None,
 ) -> Reductions:
     """Per-transect time means of longshore transport over a wave climate, by tables.
 
@@ -832,6 +1091,9 @@ def tabulated_reductions(
         Time steps per chunk (default: about :data:`CHUNK_ELEMENTS` node-steps or
         transect-steps), threads (default up to 2), and ``progress(steps_done)`` called as
         chunks finish (the steps of every wave point add up to the record's steps once).
+    mapper : callable, optional
+        Runs the table tasks (wave points x time chunks): default in this process;
+        :class:`shoreline.distributed.DaskMapper` runs them on Dask, with the same result.
 
     Returns
     -------
@@ -850,8 +1112,13 @@ def tabulated_reductions(
     for accuracy: Kamphuis' ``|sin 2 alpha_b|**0.6`` has an infinite slope at normal incidence,
     which linear interpolation between nodes smooths; over a long record of spread directions
     the error averages out below the node bound, but a single storm step met by a transect
-    facing it within half a node would show it (docs/methods.md). Points are processed one
-    after another, so memory holds one point's tables.
+    facing it within half a node would show it (docs/methods.md).
+
+    The tables are summed as tasks of (wave points, time chunk) through ``mapper`` (default
+    in this process; :mod:`shoreline.distributed` runs them on Dask), with the same chunks and
+    the same order of summation either way, so the results are the same floats. A block of
+    wave points' tables is read off as soon as its last chunk is in: memory holds one block's
+    tables. The points solved directly are solved in this process.
     """
     physics = Physics(
         tuple(formulas),
@@ -900,25 +1167,58 @@ def tabulated_reductions(
     tick = _Ticker(progress, work, n_steps)
     sums = {q: np.zeros(n) for q in physics.quantities}
     n_workers = workers or min(2, os.cpu_count() or 1)
-    for p, rows, n_nodes in tabled:
+    plans, rows_of = [], {}
+    for p, rows, _ in tabled:
         everyone = rows.size == n  # no copy of the weights when one point serves all
         w_rows = None if weight is None else (weight if everyone else weight[rows])
-        tables = tabulate(
-            climate,
-            normal[rows],
-            physics,
+        node0, n_nodes = _node_grid(normal[rows], float(angle_step_deg), 0)  # no margin needed
+        plan = _TablePlan(
             point=p if multi else None,
-            n_sectors=m,
-            margin_nodes=0,  # no margin needed to read the transects' own normals
-            sectors=None if weight is None else np.flatnonzero(w_rows.any(axis=0)),
-            angle_step_deg=angle_step_deg,
-            chunk_steps=chunk_steps,
-            workers=n_workers,
-            progress=lambda steps, k=n_nodes: tick(float(steps) * k),
+            node0=node0,
+            n_nodes=n_nodes,
+            depth=_point_depth(climate, p if multi else None),
+            # only the sectors open to any of the transects served: the others weigh zero
+            allowed=None if weight is None else np.flatnonzero(w_rows.any(axis=0)),
         )
-        part = tables.interpolate(normal[rows], sgn[rows], w_rows)
-        for q in sums:
-            sums[q][rows] = part[q]
+        plans.append(plan)
+        rows_of[plan.point] = rows
+    if plans and mapper is None and not isinstance(climate.hs_m, RecordArray):
+        # in this process, a record in memory: point after point through the public tabulate
+        # (the same chunks and sums as the batched tasks below, one point's tables at a time)
+        for plan in plans:
+            rows = rows_of.pop(plan.point)
+            w_rows = None if weight is None else (weight if rows.size == n else weight[rows])
+            tables = tabulate(
+                climate,
+                normal[rows],
+                physics,
+                point=plan.point,
+                n_sectors=m,
+                margin_nodes=0,  # no margin needed to read the transects' own normals
+                sectors=plan.allowed,
+                angle_step_deg=angle_step_deg,
+                chunk_steps=chunk_steps,
+                workers=n_workers,
+                progress=lambda steps, k=plan.n_nodes: tick(float(steps) * k),
+            )
+            part = tables.interpolate(normal[rows], sgn[rows], w_rows)
+            for q in sums:
+                sums[q][rows] = part[q]
+    elif plans:
+        settings = _TableSettings(
+            physics, m, 1, _raw(physics.quantities, physics), chunk_steps,
+            _threads(n_workers, mapper),
+        )  # fmt: skip
+        block_of = np.zeros(n_steps, dtype=np.intp)
+        for plan, tables in _tables_of(
+            climate, plans, float(angle_step_deg), settings, physics.quantities, None,
+            block_of, mapper, tick,
+        ):  # fmt: skip
+            rows = rows_of.pop(plan.point)
+            w_rows = None if weight is None else (weight if rows.size == n else weight[rows])
+            part = tables.interpolate(normal[rows], sgn[rows], w_rows)
+            for q in sums:
+                sums[q][rows] = part[q]
     with ThreadPoolExecutor(max_workers=n_workers) as pool:
         part = _direct_sums(
             direct_rows, normal, sgn, point_of, climate, weight, physics, chunk_steps, pool, tick

@@ -31,10 +31,13 @@ from shoreline.budget import (
     shoreline_change_rate,
 )
 from shoreline.climate import (
+    RecordArray,
     WaveClimate,
     exceedance_height,
+    point_blocks,
     read_record,
     steady,
+    step_blocks,
 )
 from shoreline.coast import (
     CoastLines,
@@ -308,7 +311,7 @@ def shadow_wavelength_m(climate: WaveClimate) -> float:
     The length scale of the narrow-blocker rule of :func:`shoreline.exposure.compute_exposure`
     (diffraction fills the shadow of land narrower than the first Fresnel zone).
     """
-    tp = np.atleast_2d(climate.tp_s).mean(axis=0)
+    tp = np.concatenate([t.mean(axis=0) for _, _, t, _ in step_blocks(climate)])
     ok = np.isfinite(tp) & (tp > 0)
     if not ok.any():
         return 100.0
@@ -326,18 +329,22 @@ def closure_depth_from_record(climate: WaveClimate) -> tuple[np.ndarray, np.ndar
     stand in for the nearshore ones of the original method (a screening simplification).
     Arrays of one value per wave point.
     """
-    hs = np.atleast_2d(climate.hs_m)
-    tp = np.atleast_2d(climate.tp_s)
-    he = np.atleast_1d(exceedance_height(hs, climate.duration_s, 12.0))
-    te = np.array([np.median(t[h >= e]) for h, t, e in zip(hs, tp, he, strict=True)])
-    return np.asarray(profile.hallermeier_closure_depth(he, te), dtype=float), he, te
+    he, te = [], []
+    for _, hs, tp, _ in point_blocks(climate):  # a few wave points at a time
+        he_b = np.atleast_1d(exceedance_height(hs, climate.duration_s, 12.0))
+        te += [np.median(t[h >= e]) for h, t, e in zip(hs, tp, he_b, strict=True)]
+        he.append(he_b)
+    he_m, te_s = np.concatenate(he), np.array(te)
+    return np.asarray(profile.hallermeier_closure_depth(he_m, te_s), dtype=float), he_m, te_s
 
 
 def wave_statistics(climate: WaveClimate) -> tuple[np.ndarray, np.ndarray]:
     """Duration-weighted mean Hs and Hs exceeded 12 hours a year, per wave point [m]."""
-    hs = np.atleast_2d(climate.hs_m)
-    mean = hs @ climate.duration_s / climate.duration_s.sum()
-    return mean, np.atleast_1d(exceedance_height(hs, climate.duration_s, 12.0))
+    mean, he = [], []
+    for _, hs, _, _ in point_blocks(climate):  # a few wave points at a time
+        mean.append(hs @ climate.duration_s / climate.duration_s.sum())
+        he.append(np.atleast_1d(exceedance_height(hs, climate.duration_s, 12.0)))
+    return np.concatenate(mean), np.concatenate(he)
 
 
 def nearest_wave_point(climate: WaveClimate, transects: Transects) -> np.ndarray:
@@ -620,8 +627,9 @@ def reduce_transport(
     """The time reduction of the transport at the given normals.
 
     With ``[model] angle_step_deg`` > 0 by the tables of :mod:`shoreline.reduce` (sum over
-    time first, then interpolate per transect); with 0 by :func:`transport_reductions` solving
-    every transect and step directly (the reference).
+    time first, then interpolate per transect; ``mapper=`` runs the table sums elsewhere, e.g.
+    on Dask); with 0 by :func:`transport_reductions` solving every transect and step directly
+    (the reference, always in this process, with the whole record in memory).
     """
     from shoreline.reduce import tabulated_reductions
 
@@ -640,7 +648,9 @@ def reduce_transport(
         "porosity": s["porosity"],
         "angle_step_deg": m["angle_step_deg"],
     }
+    mapper = options.pop("mapper", None)
     if m["angle_step_deg"] > 0:
+        options["mapper"] = mapper
         exposure = options.pop("exposure", None)
         weight = None if exposure is None else exposure.share
         return tabulated_reductions(
@@ -733,6 +743,7 @@ def evaluate(
     exposure: Exposure | None = None,
     coefficients: dict[str, float] | None = None,
     shore: np.ndarray | None = None,
+    mapper: Any = None,
 ) -> ScenarioResult:
     """Run the chain for one climate: transport, gradient, rate, class, hotspots.
 
@@ -745,6 +756,8 @@ def evaluate(
     ``coefficients`` (formula name to its coefficient, e.g. after calibration) override the
     study's. ``shore`` gives each transect's shore type (:mod:`shoreline.reaches`; default all
     open coast): excluded types get the class ``excluded`` and stay out of the budget.
+    ``mapper`` runs the table sums of the time reduction (:mod:`shoreline.reduce`; e.g. on
+    Dask, :mod:`shoreline.distributed`); default in this process.
     """
     n = len(transects)
     shore = shore_types(n) if shore is None else shore
@@ -765,6 +778,7 @@ def evaluate(
         exposure=exposure,
         chunk_steps=chunk_steps,
         progress=progress,
+        mapper=mapper,
     )
     info: dict[str, Any] = {
         "cerc_k_used": coefficients["cerc"],
@@ -900,11 +914,16 @@ def scenario_climate(
         hs_f = 1.0 if spec["hs_factor"] is None else spec["hs_factor"]
         tp_f = 1.0 if spec["tp_factor"] is None else spec["tp_factor"]
         shift = 0.0 if spec["dir_shift_deg"] is None else spec["dir_shift_deg"]
+        if isinstance(source.hs_m, RecordArray):  # a record on disk: transformed as read
+            hs, tp, dr = source.hs_m, source.tp_s, source.dir_deg
+            changed = (hs.scaled(hs_f), tp.scaled(tp_f), dr.turned(shift))
+        else:
+            changed = (source.hs_m * hs_f, source.tp_s * tp_f, (source.dir_deg + shift) % 360.0)
         climate = replace(
             source,
-            hs_m=source.hs_m * hs_f,
-            tp_s=source.tp_s * tp_f,
-            dir_deg=(source.dir_deg + shift) % 360.0,
+            hs_m=changed[0],
+            tp_s=changed[1],
+            dir_deg=changed[2],
             kind="record" if source.kind == "record" else "steady",
         )
         info = {"kind": kind, "source": source.source, "hs_factor": hs_f, "tp_factor": tp_f}
@@ -1035,6 +1054,7 @@ def run_study(
     chunk_steps: int | None = None,
     progress: Callable[[int, int], Callable[[int], None]] | None = None,
     stage: Callable[[str, int, str], Callable[[int], None]] | None = None,
+    mapper: Any = None,
 ) -> RunResult:
     """Run a validated study and its scenarios; return every result (nothing is written).
 
@@ -1043,6 +1063,8 @@ def run_study(
     the callback that each chunk reports its steps to (the command line's progress bar).
     ``stage(name, total, unit)``, if given, returns the progress callback of another stage
     (the sheltering rays, per transect).
+    ``mapper`` runs the table sums of every climate's time reduction elsewhere (on Dask:
+    :func:`shoreline.distributed.cluster`); the results are the same floats as in-process.
     """
     timings: dict[str, float] = {}
     t0 = time.perf_counter()
@@ -1105,6 +1127,7 @@ def run_study(
         exposure=exposure,
         coefficients=coefficients,
         shore=shore,
+        mapper=mapper,
     )
     timings["reference"] = time.perf_counter() - t0
     chain = {"point_index": point_index, "structures": structures, "shore": shore}
@@ -1148,6 +1171,7 @@ def run_study(
             exposure=None if spec.get("fetch_km") == "auto" else exposure,
             coefficients=coefficients,
             shore=shore,
+            mapper=mapper,
         )
         result.columns |= info.pop("columns", {})
         result.info |= {"scenario": info}

@@ -16,7 +16,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from shoreline.bounds import BOUNDS
+from shoreline.bounds import BOUNDS, SCHEDULER_TIMEOUT_S
 from shoreline.errors import StudyError
 
 if sys.version_info >= (3, 11):
@@ -32,7 +32,7 @@ KNOWN_FORMULAS = ("cerc", "kamphuis")
 class Key:
     """One key of the study file: its type, default and the check of its value."""
 
-    kind: str  # "float", "int", "str", "bool", "str-list", "float-or-str"
+    kind: str  # "float", "int", "str", "bool", "str-list", "float-or-str", "str-or-str-list"
     default: Any = None
     required: bool = False
     check: Callable[[Any], str | None] | None = None
@@ -176,7 +176,11 @@ SCHEMA: dict[str, dict[str, Key]] = {
         "tp_s": Key("float", check=_bounded("tp_s"), doc="peak period (steady condition)"),
         "dir_deg": Key("float", check=_direction, doc="direction waves come from, true north"),
         "depth_m": Key("float-or-str", "deep", check=_depth, doc='depth of the waves: "deep"'),
-        "file": Key("str", doc="wave record CSV: columns time, hs_m, tp_s, dir_deg"),
+        "file": Key(
+            "str-or-str-list",
+            doc="wave record: CSV (time, hs_m, tp_s, dir_deg), CF netCDF (a file, a list of "
+            "files or a glob) or a Zarr store",
+        ),
         "max_gap_h": Key(
             "float",
             6.0,
@@ -237,6 +241,20 @@ SCHEMA: dict[str, dict[str, Key]] = {
             1.0,
             check=_non_negative,
             doc="storm events: |shoreline shift| below this is stable",
+        ),
+    },
+    # How the run is carried out (not what it computes): its own block.
+    "run": {
+        "scheduler": Key(
+            "str",
+            check=lambda v: None if v.strip() else "a Dask scheduler address, e.g. tcp://host:8786",
+            doc="address of an existing Dask scheduler to run the time reduction on",
+        ),
+        "scheduler_timeout_s": Key(
+            "float",
+            10.0,
+            check=SCHEDULER_TIMEOUT_S.check,
+            doc="how long to wait for the scheduler to answer before giving up",
         ),
     },
 }
@@ -320,9 +338,11 @@ class Study:
         return None if name is None else self.folder / name
 
     @property
-    def wave_file(self) -> Path | None:
-        """The wave record file, as an absolute path, or None for a steady condition."""
+    def wave_file(self) -> Path | list[Path] | None:
+        """The wave record file (or a glob, or a list of files), absolute; None if steady."""
         name = self.settings["waves"]["file"]
+        if isinstance(name, list):
+            return [self.folder / n for n in name]
         return None if name is None else self.folder / name
 
 
@@ -346,6 +366,15 @@ def _coerce(path: Path, section: str, key: str, spec: Key, value: Any) -> Any:
         if not (isinstance(value, int) and not isinstance(value, bool)):
             raise StudyError(f"{where} = {value!r}: expected a whole number")
         return value
+    if kind == "str-or-str-list":
+        if isinstance(value, str) and value:
+            return value
+        if isinstance(value, list) and value and all(isinstance(v, str) and v for v in value):
+            return list(value)
+        raise StudyError(
+            f"{where} = {value!r}: expected a file name in quotes or a list of them, e.g. "
+            '["waves-2001.nc", "waves-2002.nc"]'
+        )
     if kind in ("str", "float-or-str"):
         if not isinstance(value, str):
             raise StudyError(f"{where} = {value!r}: expected a text value in quotes")

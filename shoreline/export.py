@@ -238,6 +238,27 @@ def _jsonable(value: Any) -> Any:
     return value
 
 
+def relative_paths(data: Any, folder: Path) -> Any:
+    """``data`` with every path under ``folder`` written relative to it (in any text value).
+
+    A record moved or shared with its study folder keeps its meaning; no path of the machine
+    that ran it is written.
+
+    Examples
+    --------
+    >>> relative_paths({"source": "/a/b/waves.csv and 2 more"}, Path("/a/b"))
+    {'source': 'waves.csv and 2 more'}
+    """
+    prefix = str(Path(folder).resolve()) + os.sep
+    if isinstance(data, dict):
+        return {k: relative_paths(v, folder) for k, v in data.items()}
+    if isinstance(data, (list, tuple)):
+        return [relative_paths(v, folder) for v in data]
+    if isinstance(data, str):
+        return data.replace(prefix, "")
+    return data
+
+
 def write_json(path: Path, data: dict[str, Any]) -> None:
     """Write a JSON file (UTF-8, indented, NaN as null)."""
     path.write_text(json.dumps(_jsonable(data), indent=2, ensure_ascii=False) + "\n", "utf-8")
@@ -253,7 +274,7 @@ def write_geojson(path: Path, frame: gpd.GeoDataFrame, members: dict[str, Any]) 
     data = json.loads(lonlat.to_json(na="null", drop_id=True, to_wgs84=True))
     geoms = shapely.set_precision(lonlat.geometry.to_numpy(), 1e-7)
     for feature, geom in zip(data["features"], geoms, strict=True):
-        feature["geometry"] = json.loads(shapely.to_geojson(geom))
+        feature["geometry"] = None if geom is None else json.loads(shapely.to_geojson(geom))
     data.pop("crs", None)
     collection = {"type": "FeatureCollection", **_jsonable(members), "features": data["features"]}
     path.write_text(json.dumps(collection, ensure_ascii=False) + "\n", "utf-8")
@@ -487,10 +508,11 @@ def write_scenario(folder: Path, result: RunResult, scenario: ScenarioResult) ->
     written.append(climate_path)
     write_readme(folder / README_NAME, scenario, settings)
     written.append(folder / README_NAME)
-    write_json(folder / "summary.json", scenario_summary(result, scenario))
+    here = result.study.folder
+    write_json(folder / "summary.json", relative_paths(scenario_summary(result, scenario), here))
     written.append(folder / "summary.json")
     if "scenario" in scenario.info:
-        write_json(folder / "scenario.json", scenario_record(scenario))
+        write_json(folder / "scenario.json", relative_paths(scenario_record(scenario), here))
         written.append(folder / "scenario.json")
     return written
 

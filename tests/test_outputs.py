@@ -301,3 +301,27 @@ def test_transects_command_geopackage_has_an_about_table(run, tmp_path: Path) ->
     values = dict(zip(about["key"], about["value"], strict=True))
     assert values["caution"] == CAUTION
     assert json.loads(values["settings"])["spacing_m"] == 100.0
+
+
+def test_scenario_records_hold_no_path_of_the_machine(tmp_path):
+    # A study folder moved or shared keeps its records: summary.json and scenario.json name
+    # the wave record relative to the study (issue: paths relative to the study file).
+    import shutil
+    from pathlib import Path
+
+    from shoreline.cli import main
+
+    demo = Path(__file__).parents[1] / "demo_coast"
+    shutil.copytree(demo, tmp_path / "demo", ignore=shutil.ignore_patterns("out*"))
+    text = (tmp_path / "demo" / "study.toml").read_text()
+    for section in ("[uncertainty]", "[projection]"):
+        assert section in text
+    study = tmp_path / "demo" / "study.toml"
+    study.write_text(
+        text.split("[projection]")[0] + '\n[[scenario]]\nname = "rotated"\nhs_factor = 1.1\n'
+    )
+    out = tmp_path / "out"
+    assert main(["run", str(study), "--out", str(out), "--no-figures", "--quiet"]) == 0
+    for path in (out / "reference" / "summary.json", out / "rotated" / "scenario.json"):
+        text = path.read_text()
+        assert str(tmp_path) not in text, path.name

@@ -593,7 +593,6 @@ def _map_figure(data: ScenarioData):
     from matplotlib import colormaps
     from matplotlib.collections import LineCollection
     from matplotlib.lines import Line2D
-    from matplotlib.ticker import FuncFormatter, MaxNLocator
 
     tr, summary = data.transects, data.summary
     metric = scenario_metric(data)
@@ -745,15 +744,7 @@ def _map_figure(data: ScenarioData):
             arrowprops={"arrowstyle": "-", "color": "black", "lw": 0.8, "shrinkB": 4},
         )
 
-    ax.set_xlim(x0, x1)
-    ax.set_ylim(y0, y1)
-    ax.set_aspect("equal", adjustable="box")
-    ax.xaxis.set_major_locator(MaxNLocator(nbins=5))
-    ax.yaxis.set_major_locator(MaxNLocator(nbins=5))
-    fmt = FuncFormatter(lambda v, _pos: f"{v:,.0f}".replace(",", "\u2009"))
-    ax.xaxis.set_major_formatter(fmt)
-    ax.yaxis.set_major_formatter(fmt)
-    ax.tick_params(labelsize=8)
+    _map_axes(ax, x0, x1, y0, y1)
     crs_name = str(summary.get("working_crs_name") or getattr(tr.crs, "name", "") or "unknown")
     crs_code = str(summary.get("working_crs") or "")
     crs_text = crs_name if not crs_code or crs_code in crs_name else f"{crs_name} ({crs_code})"
@@ -865,6 +856,21 @@ def _strongest_ids(hotspots, n: int) -> set[int]:
         return set(ids[:n].tolist())
     order = np.argsort(-np.abs(hotspots[col].to_numpy(float)), kind="stable")
     return set(ids[order[:n]].tolist())
+
+
+def _map_axes(ax, x0: float, x1: float, y0: float, y1: float) -> None:
+    """Limits, equal aspect and thin-space-grouped metre ticks of a map panel."""
+    from matplotlib.ticker import FuncFormatter, MaxNLocator
+
+    ax.set_xlim(x0, x1)
+    ax.set_ylim(y0, y1)
+    ax.set_aspect("equal", adjustable="box")
+    ax.xaxis.set_major_locator(MaxNLocator(nbins=5))
+    ax.yaxis.set_major_locator(MaxNLocator(nbins=5))
+    fmt = FuncFormatter(lambda v, _pos: f"{v:,.0f}".replace(",", "\u2009"))
+    ax.xaxis.set_major_formatter(fmt)
+    ax.yaxis.set_major_formatter(fmt)
+    ax.tick_params(labelsize=8)
 
 
 def _hotspot_ids(transects) -> np.ndarray:
@@ -1719,7 +1725,6 @@ def exaggeration(largest_shift_m: float, map_size_m: float, share: float = 0.03)
 
 def _projection_map_figure(data: ScenarioData):
     from matplotlib.lines import Line2D
-    from matplotlib.ticker import FuncFormatter, MaxNLocator
 
     tr = data.transects
     proj = data.summary.get("projection") or {}
@@ -1767,15 +1772,7 @@ def _projection_map_figure(data: ScenarioData):
             ax.plot(xy[:, 0], xy[:, 1], color="black", lw=3.0, solid_capstyle="butt", zorder=6)
     if frame is not None and len(frame):
         handles.append(Line2D([], [], color="black", lw=3.0, label="structure"))
-    ax.set_xlim(x0, x1)
-    ax.set_ylim(y0, y1)
-    ax.set_aspect("equal", adjustable="box")
-    ax.xaxis.set_major_locator(MaxNLocator(nbins=5))
-    ax.yaxis.set_major_locator(MaxNLocator(nbins=5))
-    fmt = FuncFormatter(lambda v, _pos: f"{v:,.0f}".replace(",", "\u2009"))
-    ax.xaxis.set_major_formatter(fmt)
-    ax.yaxis.set_major_formatter(fmt)
-    ax.tick_params(labelsize=8)
+    _map_axes(ax, x0, x1, y0, y1)
     crs_name = str(data.summary.get("working_crs_name") or getattr(tr.crs, "name", "") or "")
     ax.set_xlabel(f"Easting [m]  \u00b7  grid: {crs_name}", fontsize=9)
     ax.set_ylabel("Northing [m]", fontsize=9)
